@@ -1,0 +1,176 @@
+"""Conductor resistance: tabulated values at 20 °C and temperature correction.
+
+The resistance of a conductor at temperature θ is
+
+.. math::
+
+    R_\\theta = R_{20}\\,[1 + \\alpha\\,(\\theta - 20)]
+
+with :math:`R_{20}` the maximum DC resistance of IEC 60228 [1]_ and α the
+resistance-temperature coefficient.  Two named methods give α:
+
+``"bs7671"`` (default)
+    α = 0.004 /K for copper and aluminium: the rounded coefficient behind the
+    multipliers of BS 7671 practice — 1.20 at 70 °C, 1.28 at 90 °C, 1.04 at
+    30 °C and the test-temperature factors 0.96 (10 °C) and 1.02 (25 °C) [2]_.
+``"iec60228"``
+    α = 0.00393 /K for annealed copper and 0.00403 /K for aluminium,
+    IEC 60228 Annex B [1]_.
+
+References
+----------
+.. [1] IEC 60228:2004, *Conductors of insulated cables*, Tables 1 and 2 and
+   Annex B.
+.. [2] BS 7671:2018+A2:2022, Appendix 3 and IET On-Site Guide Appendix I,
+   operating-temperature multipliers (1 + 0.004 (θ − 20)); the multipliers are
+   derived arithmetic, the 0.004 /K coefficient behind them is from memory.
+"""
+from __future__ import annotations
+
+import csv
+import functools
+from importlib import resources
+
+import numpy as np
+
+__all__ = [
+    "ALPHA", "alpha_methods", "temperature_factor", "resistance_20c",
+    "csa_available", "check_conductor", "design_temperatures",
+]
+
+#: α per method and material [1/K].
+ALPHA: dict[str, dict[str, float]] = {
+    "bs7671": {"copper": 0.004, "aluminium": 0.004},       # BS 7671 practice (see module doc)
+    "iec60228": {"copper": 0.00393, "aluminium": 0.00403},  # IEC 60228:2004 Annex B
+}
+
+#: Temperature of a protective conductor not incorporated in a cable and not
+#: bunched with live conductors [°C]: BS 7671:2018 Table 54.2 initial
+#: temperature 30 °C.
+SEPARATE_CPC_TEMPERATURE_C = 30.0
+
+
+def alpha_methods() -> list[str]:
+    """Names of the available α methods (the first is the default)."""
+    return list(ALPHA)
+
+
+def temperature_factor(theta_c, material="copper", method: str = "bs7671"):
+    """Ratio :math:`R_\\theta / R_{20} = 1 + \\alpha(\\theta - 20)`.
+
+    Parameters
+    ----------
+    theta_c : float or array-like
+        Conductor temperature. [°C]
+    material : str or array-like of str
+        ``"copper"`` or ``"aluminium"``.
+    method : str
+        ``"bs7671"`` (α = 0.004 /K) or ``"iec60228"``.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        The dimensionless factor.
+
+    Examples
+    --------
+    >>> round(float(temperature_factor(70)), 4)   # BS 7671 multiplier 1.20
+    1.2
+    """
+    try:
+        table = ALPHA[method]
+    except KeyError:
+        raise ValueError(f"unknown alpha method {method!r}; choose one of {alpha_methods()}") from None
+    theta = np.asarray(theta_c, dtype=float)
+    mat = np.asarray(material)
+    if mat.ndim == 0:
+        alpha = table[str(mat)]
+    else:
+        alpha = np.where(mat == "aluminium", table["aluminium"], table["copper"])
+    out = 1.0 + alpha * (theta - 20.0)
+    return out if out.ndim else float(out)
+
+
+@functools.lru_cache(maxsize=1)
+def _table() -> dict[tuple[str, int], tuple[np.ndarray, np.ndarray]]:
+    text = resources.files("zsplan").joinpath("data", "conductors.csv").read_text(encoding="utf-8")
+    rows = csv.DictReader(line for line in text.splitlines() if not line.startswith("#"))
+    grouped: dict[tuple[str, int], list[tuple[float, float]]] = {}
+    for r in rows:
+        grouped.setdefault((r["material"], int(r["class"])), []).append(
+            (float(r["csa_mm2"]), float(r["r_mohm_per_m_20c"])))
+    return {k: (np.array([a for a, _ in v]), np.array([b for _, b in v])) for k, v in grouped.items()}
+
+
+def csa_available(material: str = "copper", conductor_class: int = 2) -> list[float]:
+    """Cross-sectional areas tabulated for a material and class. [mm²]"""
+    return _table()[(material, conductor_class)][0].tolist()
+
+
+def check_conductor(csa_mm2: float, material: str = "copper", conductor_class: int = 2) -> str | None:
+    """``None`` when the conductor is tabulated, else a message saying what is."""
+    key = (material, conductor_class)
+    if key not in _table():
+        return f"no conductor data for {material} class {conductor_class}"
+    sizes = _table()[key][0]
+    if not np.any(np.isclose(sizes, csa_mm2, rtol=0, atol=1e-9)):
+        listed = ", ".join(f"{s:g}" for s in sizes)
+        return f"no {material} conductor of {csa_mm2:g} mm²; IEC 60228 sizes are {listed} mm²"
+    return None
+
+
+def resistance_20c(csa_mm2, material="copper", conductor_class: int = 2):
+    """Maximum DC resistance at 20 °C per metre, IEC 60228 [1]_.
+
+    Parameters
+    ----------
+    csa_mm2 : float or array-like
+        Nominal cross-sectional area. [mm²]
+    material : str or array-like of str
+        ``"copper"`` or ``"aluminium"``.
+    conductor_class : int
+        1 (solid) or 2 (stranded); they differ only from 185 mm².
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Resistance. [mΩ/m]
+
+    Raises
+    ------
+    ValueError
+        For a size that IEC 60228 does not list for the material.
+    """
+    csa, mat = np.broadcast_arrays(np.asarray(csa_mm2, dtype=float), np.asarray(material))
+    out = np.full(csa.shape, np.nan)
+    for m in np.unique(mat):
+        sizes, res = _table()[(str(m), conductor_class)]
+        sel = mat == m
+        idx = np.searchsorted(sizes, csa[sel])
+        idx = np.clip(idx, 0, len(sizes) - 1)
+        ok = np.isclose(sizes[idx], csa[sel], rtol=0, atol=1e-9)
+        if not np.all(ok):
+            bad = np.asarray(csa[sel])[~ok].ravel()[0]
+            raise ValueError(check_conductor(float(bad), str(m), conductor_class))
+        out[sel] = res[idx]
+    return out if out.ndim else float(out)
+
+
+def design_temperatures(temp_rating_c, cpc_with_line):
+    """Conductor temperatures for the design loop impedance. [°C]
+
+    The line conductor is taken at the maximum operating temperature of its
+    insulation (70 °C thermoplastic, 90 °C thermosetting; BS 7671:2018
+    Table 52.1).  The cpc is taken at the same temperature when incorporated
+    in the cable or bunched with live conductors, otherwise at 30 °C
+    (BS 7671:2018 Table 54.2 initial temperature).
+
+    Returns
+    -------
+    (line_c, cpc_c) : tuple of float or numpy.ndarray
+    """
+    rating = np.asarray(temp_rating_c, dtype=float)
+    cpc = np.where(np.asarray(cpc_with_line, dtype=bool), rating, SEPARATE_CPC_TEMPERATURE_C)
+    if rating.ndim == 0:
+        return float(rating), float(cpc)
+    return rating, cpc

@@ -1,0 +1,122 @@
+"""Results of a check: per-circuit and per-point arrays, verdicts, JSON.
+
+The engine's numbers stay unrounded in :attr:`Results.circuits` and every
+verdict is taken on them.  Rounding happens only for display and JSON, and
+always toward the safe side: impedances and times are rounded up, limits,
+currents and margins down (:func:`safe_round`), so a printed figure never
+makes a failing circuit look like a pass.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .geometry import CircuitLengths
+from .model import Plan
+
+__all__ = ["Results", "safe_round", "STATUSES", "ROUND_UP", "ROUND_DOWN"]
+
+STATUSES = ("pass", "tight", "fail")
+
+#: Fields rounded up for display (larger is worse).
+ROUND_UP = {"r1r2_ohm", "r1r2_test_ohm", "zs_ohm", "disconnect_s", "vdrop_pct",
+            "cpc_min_mm2", "length_m"}
+#: Fields rounded down for display (smaller is worse).
+ROUND_DOWN = {"zs_max_ohm", "zs_test_max_ohm", "fault_current_a", "margin",
+              "disconnect_limit_s", "vdrop_limit_pct"}
+
+_DECIMALS = {"length_m": 2, "fault_current_a": 1, "margin": 3, "vdrop_pct": 2,
+             "vdrop_limit_pct": 2, "disconnect_s": 3, "disconnect_limit_s": 3,
+             "cpc_min_mm2": 2}
+
+
+def safe_round(name: str, value: float, decimals: int | None = None):
+    """Round ``value`` of field ``name`` toward the safe side; ``None`` if not finite."""
+    if value is None or not math.isfinite(value):
+        return None
+    d = _DECIMALS.get(name, 4) if decimals is None else decimals
+    scale = 10.0 ** d
+    # a relative nudge keeps exact decimals (0.4, 1.37) from moving by one unit
+    # through binary representation error
+    eps = 1e-9 * max(1.0, abs(value)) * scale
+    if name in ROUND_UP:
+        return math.ceil(value * scale - eps) / scale
+    if name in ROUND_DOWN:
+        return math.floor(value * scale + eps) / scale
+    return round(value, d)
+
+
+@dataclass
+class Results:
+    """The outcome of :func:`zsplan.check` for one plan.
+
+    Attributes
+    ----------
+    plan : Plan
+    lengths : list of CircuitLengths
+        One per circuit, in plan order.
+    circuits : dict of numpy.ndarray
+        Engine fields per circuit (unrounded), plus ``status`` and ``board_ze_ohm``.
+    points : dict of numpy.ndarray
+        Engine fields per outlet/point, with ``circuit`` (index into the
+        circuit arrays) and ``name``.
+    checks : list of dict
+        Per circuit: check name -> "pass" | "fail".
+    messages : list of list of str
+        Per circuit: explanations (why a check failed, warnings).
+    """
+
+    plan: Plan
+    lengths: list[CircuitLengths]
+    circuits: dict[str, np.ndarray]
+    points: dict[str, np.ndarray]
+    checks: list[dict[str, str]]
+    messages: list[list[str]]
+    warnings: list[str] = field(default_factory=list)
+
+    @property
+    def status(self) -> np.ndarray:
+        return self.circuits["status"]
+
+    def summary(self) -> dict[str, int]:
+        s = self.status
+        return {k: int(np.count_nonzero(s == k)) for k in STATUSES}
+
+    @property
+    def any_fail(self) -> bool:
+        return bool(np.any(self.status == "fail"))
+
+    def circuit_record(self, i: int) -> dict:
+        """The JSON record of circuit ``i`` (contract fields, safely rounded)."""
+        c = self.plan.circuits[i]
+        a = self.circuits
+        rec = {"ref": c.ref, "board": c.board, "status": str(a["status"][i])}
+        for name in ("length_m", "r1r2_ohm", "r1r2_test_ohm", "zs_ohm", "zs_max_ohm",
+                     "zs_test_max_ohm", "fault_current_a", "disconnect_s",
+                     "disconnect_limit_s", "margin", "vdrop_pct", "vdrop_limit_pct"):
+            rec[name] = safe_round(name, float(a[name][i])) if name in a else None
+        rec["checks"] = dict(self.checks[i])
+        rec["messages"] = list(self.messages[i])
+        # additions to the version-1 contract (documented in docs/plan-format.md)
+        rec["name"] = c.name
+        rec["device"] = c.device.label
+        rec["cable"] = c.cable.label
+        rec["ze_ohm"] = safe_round("zs_ohm", float(a["board_ze_ohm"][i]))
+        rec["worst_point"] = self.lengths[i].worst_point
+        pts = self.points
+        sel = np.nonzero(pts["circuit"] == i)[0]
+        rec["points"] = [
+            {"name": str(pts["name"][k]),
+             "length_m": safe_round("length_m", float(pts["length_m"][k])),
+             "zs_ohm": safe_round("zs_ohm", float(pts["zs_ohm"][k])),
+             "margin": safe_round("margin", float(pts["margin"][k]))}
+            for k in sel]
+        return rec
+
+    def to_dict(self) -> dict:
+        """The results document of the version-1 contract."""
+        return {"zsplan": 1, "plan": self.plan.path,
+                "circuits": [self.circuit_record(i) for i in range(len(self.plan.circuits))],
+                "summary": self.summary()}

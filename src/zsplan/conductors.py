@@ -169,8 +169,9 @@ def design_temperatures(temp_rating_c, cpc_with_line):
     -------
     (line_c, cpc_c) : tuple of float or numpy.ndarray
     """
-    rating = np.asarray(temp_rating_c, dtype=float)
-    cpc = np.where(np.asarray(cpc_with_line, dtype=bool), rating, SEPARATE_CPC_TEMPERATURE_C)
+    rating, with_line = np.broadcast_arrays(np.asarray(temp_rating_c, dtype=float),
+                                            np.asarray(cpc_with_line, dtype=bool))
+    cpc = np.where(with_line, rating, SEPARATE_CPC_TEMPERATURE_C)
     if rating.ndim == 0:
         return float(rating), float(cpc)
     return rating, cpc

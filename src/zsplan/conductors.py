@@ -141,6 +141,18 @@ def resistance_20c(csa_mm2, material="copper", conductor_class: int = 2):
     ValueError
         For a size that IEC 60228 does not list for the material.
     """
+    if np.ndim(material) == 0 or (isinstance(material, np.ndarray) and material.size and
+                                  np.all(material.ravel()[:1] == material)):
+        # one material (the usual case): a single sorted look-up
+        m = str(np.asarray(material).ravel()[0]) if np.ndim(material) else str(material)
+        sizes, res = _table()[(m, conductor_class)]
+        csa = np.asarray(csa_mm2, dtype=float)
+        idx = np.clip(np.searchsorted(sizes, csa), 0, len(sizes) - 1)
+        ok = np.abs(sizes[idx] - csa) <= 1e-9
+        if not np.all(ok):
+            raise ValueError(check_conductor(float(np.asarray(csa)[~ok].ravel()[0]), m, conductor_class))
+        out = res[idx]
+        return out if out.ndim else float(out)
     csa, mat = np.broadcast_arrays(np.asarray(csa_mm2, dtype=float), np.asarray(material))
     out = np.full(csa.shape, np.nan)
     for m in np.unique(mat):

@@ -241,6 +241,7 @@ class CurveSet:
         with np.errstate(divide="ignore"):
             self.log_i = np.log(self.cur)
             self.log_t = np.log(self.tim)     # padding: -inf
+        self.width = n
         self.curves = tuple(curves)
 
     @classmethod
@@ -270,33 +271,17 @@ def operating_time(curves: CurveSet, index, current_a):
     Returns
     -------
     numpy.ndarray
-        ``inf`` below the first tabulated point.
+        ``inf`` below the first tabulated point; the last point's time
+        beyond the last point.
     """
     index = np.asarray(index, dtype=np.intp)
-    x = np.log(np.maximum(np.asarray(current_a, dtype=float), 1e-300))
+    with np.errstate(divide="ignore"):
+        x = np.log(np.asarray(current_a, dtype=float))
     x, index = np.broadcast_arrays(x, index)
-    li, lt, n = curves.log_i[index], curves.log_t[index], curves.npts[index]
-    j = np.sum(li <= x[..., None], axis=-1)            # points at or below the current
-    out = np.empty(x.shape)
-    below = j == 0
-    beyond = j >= n
-    mid = ~(below | beyond)
-    out[below] = np.inf
-    out[beyond] = curves.tim[index[beyond], n[beyond] - 1]
-    if np.any(mid):
-        out[mid] = _interpolate(x[mid], li, curves.tim, index, mid, j[mid])
-    return out
-
-
-def _interpolate(x, lx, y_lin, index, mid, jm):
-    """Log-log interpolation between points jm-1 and jm, exact at the points."""
-    rows = index[mid]
-    x0, x1 = lx[mid, jm - 1], lx[mid, jm]
-    y0, y1 = y_lin[rows, jm - 1], y_lin[rows, jm]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        frac = np.where(x1 != x0, (x - x0) / (x1 - x0), 0.0)
-        val = y0 * np.exp(frac * (np.log(y1) - np.log(y0)))
-    return np.where(frac <= 0, y0, np.where(frac >= 1, y1, val))
+    n = curves.npts[index]
+    below = np.inf
+    beyond = curves.tim.ravel()[index * curves.width + n - 1]
+    return _walk(x, index, curves.log_i, False, curves.tim, curves.log_t, n, below, beyond)
 
 
 def current_for_time(curves: CurveSet, index, time_s):
@@ -306,16 +291,33 @@ def current_for_time(curves: CurveSet, index, time_s):
     first point's current where t is longer than its first time.
     """
     index = np.asarray(index, dtype=np.intp)
-    y = np.log(np.asarray(time_s, dtype=float))
+    with np.errstate(divide="ignore"):
+        y = np.log(np.asarray(time_s, dtype=float))
     y, index = np.broadcast_arrays(y, index)
-    li, lt, n = curves.log_i[index], curves.log_t[index], curves.npts[index]
-    j = np.sum(lt > y[..., None], axis=-1)             # points slower than t
-    out = np.empty(y.shape)
-    first = j == 0
-    never = j >= n
-    mid = ~(first | never)
-    out[first] = curves.cur[index[first], 0]
-    out[never] = np.inf
-    if np.any(mid):
-        out[mid] = _interpolate(y[mid], lt, curves.cur, index, mid, j[mid])
-    return out
+    n = curves.npts[index]
+    first = curves.cur[:, 0][index]
+    return _walk(y, index, curves.log_t, True, curves.cur, curves.log_i, n, first, np.inf)
+
+
+def _walk(q, index, keys, descending, vals, log_vals, n, before, after):
+    """Locate each query ``q`` on its curve and interpolate log-log.
+
+    ``keys`` (log current, ascending, or log time, descending) are counted
+    column by column, which touches N elements per point instead of copying
+    an N x P table.  ``before``/``after`` are the results before the first
+    and after the last point.  Exact at the points themselves.
+    """
+    width = keys.shape[1]
+    j = np.zeros(q.shape, dtype=np.intp)
+    for col in keys.T:
+        j += (col[index] > q) if descending else (col[index] <= q)
+    base = index * width
+    a = base + np.clip(j - 1, 0, width - 1)
+    b = base + np.minimum(j, n - 1)
+    k, v, lv = keys.ravel(), vals.ravel(), log_vals.ravel()
+    k0, k1, v0, v1 = k[a], k[b], v[a], v[b]
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        frac = np.where(k1 != k0, (q - k0) / (k1 - k0), 0.0)
+        val = v0 * np.exp(frac * (lv[b] - lv[a]))
+    val = np.where(frac <= 0, v0, np.where(frac >= 1, v1, val))
+    return np.where(j == 0, before, np.where(j >= n, after, val))

@@ -1,0 +1,1288 @@
+"""Read a plan file (YAML) into the immutable plan model.
+
+The plan file format is described in ``docs/plan-format.md`` (version 1).
+:func:`load_plan` reads a file, :func:`load_plan_text` a string.  Both
+return a :class:`zsplan.model.Plan` or raise :class:`zsplan.errors.PlanError`
+listing *every* problem found, each with the file, the key path (for
+example ``circuits[2].cable.cpc``), the 1-based line and what was expected.
+
+How it works
+------------
+The YAML text is *composed* (parsed to a node tree, by libyaml's C parser
+when PyYAML was built with it) but never *constructed* into Python objects:
+one walk over the nodes, driven by the plan's schema, checks and converts
+each value straight into the model's units.  Every node keeps its mark, so
+each value's line is known; the walk replaces PyYAML's constructor, so the
+cost stays close to a bare ``yaml.load`` of the same file.  Repeated small
+mappings (the same device or cable written on many circuits) are converted
+once and reused, and quantity strings are parsed once
+(:func:`zsplan.units.parse` caches them).
+
+Scalars are read from their source text where YAML 1.1 would surprise: a
+ref written ``03`` stays ``"03"`` and ``scale: 1:50`` is a scale, not the
+sexagesimal integer 110.
+
+References
+----------
+.. [1] YAML 1.1 (PyYAML's schema): https://yaml.org/spec/1.1/
+"""
+from __future__ import annotations
+
+import contextlib
+import difflib
+import gc
+import math
+import re
+from pathlib import Path
+
+import yaml
+from yaml.nodes import MappingNode, ScalarNode, SequenceNode
+
+from zsplan import units
+from zsplan.errors import Collector, PlanError, Problem
+from zsplan.model import (DEVICE_TYPES, EARTHING, MATERIALS, RUNS, TOPOLOGIES,
+                          USES, Board, Cable, Circuit, Device, Drawing, Outlet,
+                          Plan, Settings, SubMain, Supply, Where)
+
+__all__ = ["load_plan", "load_plan_text", "FORMAT_VERSION", "CURVES",
+           "FUSE_STANDARDS", "INSULATIONS", "OUTLET_KINDS", "ALPHA_METHODS",
+           "TEST_LIMIT_METHODS"]
+
+#: The plan format version this loader reads.
+FORMAT_VERSION = 1
+
+CURVES = ("B", "C", "D")
+FUSE_STANDARDS = ("bs88-2", "bs88-3", "bs3036", "bs1362")
+INSULATIONS = ("thermoplastic", "thermosetting")
+OUTLET_KINDS = ("socket", "light", "switch", "spur", "fixed")
+ALPHA_METHODS = ("bs7671", "iec60228")
+TEST_LIMIT_METHODS = ("rule-of-0.8", "temperature-ratio")
+
+# --- defaults (each with its source) -----------------------------------------
+# BS 7671:2018 Appendix 4, Table 4B1: current ratings are tabulated for a
+# reference ambient of 30 °C (correction factor 1.00)  # from memory
+DEFAULT_AMBIENT_C = 30.0
+# IEC 60228 Tables 1 and 2 state conductor resistance at 20 °C
+DEFAULT_TEST_TEMPERATURE_C = 20.0
+# common practice (no published source): 2.4 m ceiling above finished floor
+DEFAULT_CEILING_M = 2.4
+# common practice (no published source): consumer unit cable entry 1.6 m up
+DEFAULT_BOARD_HEIGHT_M = 1.6
+# IEC 60038: nominal 230/400 V; BS 7671:2018 Tables 41.2-41.4 use U0 = 230 V
+DEFAULT_U0_V = 230.0
+# BS 7671:2018 Regulation 411.4.5 (Cmin = 0.95)
+DEFAULT_CMIN = 0.95
+# BS 7671:2018 Table 54.3: 70 °C thermoplastic, 90 °C thermosetting insulation
+TEMP_RATINGS_C = (70.0, 90.0)
+
+_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+_STR = "tag:yaml.org,2002:str"
+_INT = "tag:yaml.org,2002:int"
+_FLOAT = "tag:yaml.org,2002:float"
+_BOOL = "tag:yaml.org,2002:bool"
+_NULL = "tag:yaml.org,2002:null"
+_MERGE = "tag:yaml.org,2002:merge"
+_MAX_MERGE_DEPTH = 16
+
+
+def _keys(*names: str) -> dict[str, None]:
+    """An ordered key set (fast look-up, stable order in messages)."""
+    return dict.fromkeys(names)
+
+
+_TOP_KEYS = _keys("zsplan", "title", "supply", "defaults", "drawing", "boards",
+                  "circuits", "settings")
+_SUPPLY_KEYS = _keys("u0", "earthing", "ze", "cmin", "electrode")
+_DEFAULT_KEYS = _keys("ceiling", "allowance", "extra", "ambient", "test_temperature",
+                      "run", "cable", "cpc_with_line")
+_DRAWING_KEYS = _keys("floorplan", "scale", "units_per_metre", "calibrate",
+                      "routes_layer")
+_CALIBRATE_KEYS = _keys("from", "to", "length")
+_BOARD_KEYS = _keys("ref", "at", "height", "fed_from")
+_FED_KEYS = _keys("board", "cable", "length", "device", "load")
+_CIRCUIT_KEYS = _keys("ref", "board", "name", "use", "topology", "device", "rcd",
+                      "cable", "ambient", "load", "run", "route", "outlets",
+                      "allowance", "extra", "ceiling", "test_temperature")
+_DEVICE_KEYS = _keys("type", "curve", "rating", "standard", "family")
+_CABLE_KEYS = _keys("line", "cpc", "material", "temp_rating", "cpc_with_line",
+                    "insulation")
+_OUTLET_KEYS = _keys("at", "height", "name", "kind")
+_SETTINGS_KEYS = _keys("tight", "alpha", "test_limit", "vdrop_lighting",
+                       "vdrop_other")
+
+#: the outlet kind a circuit's outlets take when none is given
+_KIND_OF_USE = {"sockets": "socket", "lighting": "light", "fixed": "fixed",
+                "distribution": "fixed"}
+
+_SCALE = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)\s*:\s*(\d+(?:\.\d*)?|\.\d+)\s*$")
+
+
+# --- public entry points -----------------------------------------------------
+
+def load_plan(path) -> Plan:
+    """Read and validate the plan file at ``path``.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The plan file (YAML, format version 1).  A floor plan named in it is
+        looked for relative to the plan file's folder.
+
+    Returns
+    -------
+    zsplan.model.Plan
+
+    Raises
+    ------
+    zsplan.errors.PlanError
+        Listing every problem found, each naming the file, the key path, the
+        line and what was expected.
+    """
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8-sig")
+    except FileNotFoundError:
+        raise PlanError(Problem(str(path), "no such file; expected a plan file (YAML)")) from None
+    except IsADirectoryError:
+        raise PlanError(Problem(str(path), "is a folder; expected a plan file (YAML)")) from None
+    except UnicodeDecodeError as exc:
+        raise PlanError(Problem(
+            str(path), f"cannot be read as UTF-8 text (byte {exc.start}); "
+            "expected a plan file (YAML) saved as UTF-8")) from None
+    except OSError as exc:
+        raise PlanError(Problem(str(path), f"cannot be read ({exc.strerror})")) from None
+    return load_plan_text(text, file=str(path), base_dir=p.parent)
+
+
+def load_plan_text(text: str, *, file: str = "<string>", base_dir=".") -> Plan:
+    """Read and validate a plan given as YAML text.
+
+    Parameters
+    ----------
+    text : str
+        The plan (YAML, format version 1).
+    file : str
+        The name used in error messages and stored as ``Plan.path``.
+    base_dir : str or os.PathLike
+        The folder that a floor plan (``drawing.floorplan``) is relative to
+        and must stay inside.
+
+    Returns
+    -------
+    zsplan.model.Plan
+
+    Raises
+    ------
+    zsplan.errors.PlanError
+        Listing every problem found.
+    """
+    with _gc_paused():
+        root = _compose(text, file)
+        try:
+            return _Reader(file, base_dir).plan(root)
+        finally:
+            del root   # free the node tree before the collector runs again
+
+
+@contextlib.contextmanager
+def _gc_paused():
+    """Pause the cyclic garbage collector while the node tree is built and read.
+
+    A large plan makes millions of small node and mark objects; each burst of
+    allocations would otherwise start collections that walk all of them
+    (about three quarters of the load time of a 10 000-circuit plan).  The
+    node tree and the model hold no reference cycles.
+    """
+    was_enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was_enabled:
+            gc.enable()
+
+
+# --- YAML ----------------------------------------------------------------------
+
+def _compose(text: str, file: str):
+    """YAML text -> root node; syntax errors -> PlanError with the line."""
+    try:
+        root = yaml.compose(text, Loader=_LOADER)
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        msg = f"YAML syntax error: {exc.problem or exc.context}"
+        if exc.context and exc.problem:
+            msg += f" ({exc.context}"
+            if exc.context_mark is not None:
+                msg += f" started on line {exc.context_mark.line + 1}"
+            msg += ")"
+        line = None
+        if mark is not None:
+            line = mark.line + 1
+            msg += f", at column {mark.column + 1}"
+        raise PlanError(Problem(file, msg, "", line)) from None
+    except yaml.YAMLError as exc:   # e.g. a control character in the text
+        pos = getattr(exc, "position", None)
+        line = text.count("\n", 0, pos) + 1 if isinstance(pos, int) else None
+        raise PlanError(Problem(file, f"YAML error: {exc}", "", line)) from None
+    if root is None:
+        raise PlanError(Problem(
+            file, f"the plan is empty; expected a mapping starting with "
+            f"'zsplan: {FORMAT_VERSION}'", "", 1))
+    return root
+
+
+def _line(node) -> int | None:
+    return None if node is None else node.start_mark.line + 1
+
+
+def _join(path: str, key: str) -> str:
+    return f"{path}.{key}" if path else key
+
+
+def _describe(node) -> str:
+    if node.__class__ is MappingNode:
+        return "a mapping"
+    if node.__class__ is SequenceNode:
+        return "a list"
+    if node.tag == _NULL:
+        return "nothing"
+    return repr(node.value)
+
+
+def _a(word: str) -> str:
+    return ("an " if word[0] in "aeiou" else "a ") + word
+
+
+def _expect_text(kind: str) -> str:
+    examples = getattr(units, "_EXAMPLES", {}).get(kind)
+    return f"{_a(kind)} such as {examples}" if examples else _a(kind)
+
+
+def _did_you_mean(word: str, choices) -> str:
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
+    if close:
+        return f"did you mean '{close[0]}'?"
+    return "expected one of: " + ", ".join(choices)
+
+
+def _device_checker():
+    """``zsplan.protection.check_device``, or None while it does not exist."""
+    try:
+        from zsplan import protection
+    except ModuleNotFoundError as exc:
+        if exc.name == "zsplan.protection":
+            return None
+        raise
+    return getattr(protection, "check_device", None)
+
+
+def _read_drawing(*args, **kwargs):
+    from zsplan.svgplan import read_drawing   # imported only for drawn plans
+    return read_drawing(*args, **kwargs)
+
+
+# --- the schema walk ---------------------------------------------------------
+
+class _Reader:
+    """One pass over the composed nodes, collecting problems as it goes."""
+
+    def __init__(self, file: str, base_dir):
+        self.file = file
+        self.base_dir = Path(base_dir)
+        self.c = Collector(file)
+        self._yaml = yaml.constructor.SafeConstructor()
+        self._choices: dict[tuple, dict[str, str]] = {}
+        self._device_cache: dict = {}
+        self._cable_cache: dict = {}
+        self._cables: dict = {}
+        self._merge_cache: dict = {}
+        self._check_device = _device_checker()
+        self._checked: dict[Device, str | None] = {}
+        self._default_cable: dict = {}
+        self._default_nodes: dict = {}
+        self._reported: set = set()
+        self._drawing_warnings: list = []
+        self._drawing_failed = False
+
+    # -- reporting
+    def add(self, message: str, path: str, node=None, line=None) -> None:
+        self.c.add(message, path, _line(node) if line is None else line)
+
+    def missing(self, parent, path: str, key: str, what: str) -> None:
+        self.add(f"missing required key '{key}' ({what})", _join(path, key), parent)
+
+    # -- structure
+    def mapping(self, node, path: str, keys, what: str, _depth: int = 0):
+        """A mapping node -> {key: value node}, reporting unknown and repeated keys.
+
+        Keys starting with ``x-`` are the user's own and are skipped.  YAML
+        merge keys (``<<: *anchor``) are honoured: the mapping's own keys win.
+        """
+        if node.__class__ is not MappingNode:
+            self.add(f"expected {what} (a mapping of keys), got {_describe(node)}",
+                     path, node)
+            return None
+        out = {}
+        merges = None
+        for knode, vnode in node.value:
+            key = knode.value if knode.__class__ is ScalarNode else None
+            if key in keys and knode.tag != _MERGE:
+                if key in out:
+                    self.add(f"key '{key}' appears twice in this mapping (first on "
+                             f"line {_line(out[key])}); keep one", _join(path, key), knode)
+                else:
+                    out[key] = vnode
+            elif knode.tag == _MERGE:
+                merges = merges or []
+                merges.append(vnode)
+            elif key is None:
+                self.add(f"expected a key name, got {_describe(knode)}", path, knode)
+            elif not key.startswith("x-"):
+                self.add(f"unknown key '{key}'; {_did_you_mean(key, keys)}",
+                         _join(path, key), knode)
+        if merges:
+            self._merge(merges, out, path, keys, what, _depth)
+        return out
+
+    def _merge(self, merges, out, path, keys, what, depth):
+        if depth >= _MAX_MERGE_DEPTH:
+            self.add("YAML merge keys nested too deeply (or a merge refers to "
+                     "itself)", path, merges[0])
+            return
+        for vnode in merges:
+            sources = vnode.value if vnode.__class__ is SequenceNode else [vnode]
+            for src in sources:   # earlier sources take priority
+                if src.__class__ is not MappingNode:
+                    self.add(f"a merge ('<<') takes a mapping or a list of mappings, got "
+                             f"{_describe(src)}", path, src)
+                    continue
+                cache_key = (id(src), path)
+                sub = self._merge_cache.get(cache_key)
+                if sub is None:
+                    sub = self.mapping(src, path, keys, what, depth + 1) or {}
+                    self._merge_cache[cache_key] = sub
+                for k, v in sub.items():
+                    out.setdefault(k, v)
+
+    def sequence(self, node, path: str, what: str):
+        if node.__class__ is not SequenceNode:
+            self.add(f"expected a list of {what}, got {_describe(node)}", path, node)
+            return None
+        return node.value
+
+    # -- scalars
+    def _number(self, node) -> float | None:
+        """An int- or float-tagged scalar -> float (YAML 1.1 forms, .nan, .inf)."""
+        v = node.value
+        try:
+            if node.tag == _FLOAT:
+                return float(v)
+            if v.isdigit() and (v[0] != "0" or len(v) == 1):
+                return float(v)
+        except ValueError:
+            pass
+        try:
+            if node.tag == _INT:
+                return float(self._yaml.construct_yaml_int(node))
+            return float(self._yaml.construct_yaml_float(node))
+        except (ValueError, yaml.YAMLError):
+            return None
+
+    def quantity(self, node, path: str, kind: str, rule: str | None = None):
+        """A quantity (number in the kind's unit, or text with a unit) -> float.
+
+        ``rule``: ``"pos"`` (> 0), ``"nonneg"`` (>= 0), ``"abs"`` (above
+        absolute zero), or None.
+        """
+        if node.__class__ is ScalarNode:
+            tag = node.tag
+            if tag == _STR:
+                try:
+                    x = units.parse(node.value, kind)
+                except units.UnitProblem as exc:
+                    self.add(str(exc), path, node)
+                    return None
+            elif tag == _FLOAT or tag == _INT:
+                x = self._number(node)
+                if x is None or not math.isfinite(x):
+                    self.add(f"expected a finite {kind}, got {node.value!r}", path, node)
+                    return None
+            else:
+                self.add(f"expected {_expect_text(kind)}, got {_describe(node)}",
+                         path, node)
+                return None
+        else:
+            self.add(f"expected {_expect_text(kind)}, got {_describe(node)}", path, node)
+            return None
+        if rule is not None:
+            if rule == "pos" and not x > 0:
+                self.add(f"expected {_a(kind)} greater than zero, got {node.value!r}",
+                         path, node)
+                return None
+            if rule == "nonneg" and not x >= 0:
+                self.add(f"expected {_a(kind)} of zero or more, got {node.value!r}",
+                         path, node)
+                return None
+            if rule == "abs" and not x > -273.15:   # absolute zero, 0 K = -273.15 °C (SI)
+                self.add(f"expected a temperature above absolute zero, got "
+                         f"{node.value!r}", path, node)
+                return None
+        return x
+
+    def plain(self, node, path: str, what: str, lo: float | None = None,
+              hi: float | None = None):
+        """A plain number (no unit), finite, with lo < x <= hi where given."""
+        x = None
+        if node.__class__ is ScalarNode:
+            if node.tag in (_INT, _FLOAT):
+                x = self._number(node)
+            elif node.tag == _STR:
+                try:
+                    x = float(node.value)
+                except ValueError:
+                    x = None
+        if (x is None or not math.isfinite(x) or (lo is not None and not x > lo)
+                or (hi is not None and x > hi)):
+            rng = "a finite plain number"
+            if lo is not None:
+                rng += f" above {lo:g}"
+            if hi is not None:
+                rng += f"{' and' if lo is not None else ''} at most {hi:g}"
+            self.add(f"expected {what}: {rng}, got {_describe(node)}", path, node)
+            return None
+        return x
+
+    def text(self, node, path: str, what: str):
+        """Any non-empty scalar, as written (``ref: 03`` stays ``"03"``)."""
+        if node.__class__ is ScalarNode and node.tag != _NULL and node.value.strip():
+            return node.value
+        self.add(f"expected {what} (text), got {_describe(node)}", path, node)
+        return None
+
+    def choice(self, node, path: str, choices: tuple, what: str):
+        """One of ``choices`` (case-insensitive) -> its canonical spelling."""
+        table = self._choices.get(choices)
+        if table is None:
+            table = self._choices[choices] = {c.lower(): c for c in choices}
+        if node.__class__ is ScalarNode and node.tag != _NULL:
+            got = table.get(node.value.lower())
+            if got is not None:
+                return got
+            hint = _did_you_mean(node.value, choices)
+            if hint.startswith("did"):
+                hint = f"expected one of {', '.join(choices)}; {hint}"
+            self.add(f"unknown {what} '{node.value}'; {hint}", path, node)
+            return None
+        self.add(f"expected {what}: one of {', '.join(choices)}, got {_describe(node)}",
+                 path, node)
+        return None
+
+    def boolean(self, node, path: str, what: str):
+        if node.__class__ is ScalarNode and node.tag == _BOOL:
+            return self._yaml.construct_yaml_bool(node)
+        self.add(f"expected {what}: true or false, got {_describe(node)}", path, node)
+        return None
+
+    def point(self, node, path: str, what: str = "a point [x, y] in plan metres"):
+        """``[x, y]`` of numbers (metres) or length strings -> (x, y)."""
+        if node.__class__ is SequenceNode and len(node.value) == 2:
+            a, b = node.value
+            if a.tag == _FLOAT or a.tag == _INT:
+                if b.tag == _FLOAT or b.tag == _INT:
+                    x, y = self._number(a), self._number(b)
+                    if x is not None and y is not None and math.isfinite(x + y):
+                        return (x, y)
+            x = self.quantity(a, f"{path}[0]", "length")
+            y = self.quantity(b, f"{path}[1]", "length")
+            if x is None or y is None:
+                return None
+            return (x, y)
+        self.add(f"expected {what}, got {_describe(node)}", path, node)
+        return None
+
+    # -- the plan
+    def plan(self, root) -> Plan:
+        if root.__class__ is not MappingNode:
+            raise PlanError(Problem(
+                self.file, f"the top level of a plan must be a mapping starting with "
+                f"'zsplan: {FORMAT_VERSION}', got {_describe(root)}", "", _line(root)))
+        top = self.mapping(root, "", _TOP_KEYS, "a plan")
+
+        ver = top.get("zsplan")
+        if ver is None:
+            self.missing(root, "", "zsplan", f"the plan format version, "
+                         f"'zsplan: {FORMAT_VERSION}'")
+        elif not (ver.__class__ is ScalarNode and ver.value.strip() == str(FORMAT_VERSION)):
+            # another version's keys may mean other things: stop here
+            raise PlanError(Problem(
+                self.file, f"plan format version {_describe(ver)} is not supported; "
+                f"this zsplan reads version {FORMAT_VERSION} ('zsplan: {FORMAT_VERSION}')",
+                "zsplan", _line(ver)))
+
+        title = ""
+        if "title" in top and top["title"].tag != _NULL:
+            title = self.text(top["title"], "title", "a title") or ""
+
+        supply = self.supply(top.get("supply"), root)
+        defaults = self.defaults(top.get("defaults"))
+        settings = self.settings(top.get("settings"))
+        drawing, drawing_ok = self.drawing(top.get("drawing"))
+
+        boards_node = top.get("boards")
+        if boards_node is None:
+            self.missing(root, "", "boards", "a list of distribution boards, each "
+                         "with a ref")
+            boards = []
+        else:
+            boards = self.boards(boards_node)
+        circuits_node = top.get("circuits")
+        if circuits_node is None:
+            self.missing(root, "", "circuits", "a list of circuits")
+            circuits = []
+        else:
+            circuits = self.circuits(circuits_node, defaults)
+
+        board_refs = {b["kw"]["ref"]: b for b in boards if b["kw"]["ref"] is not None}
+        self.check_feeds(boards, board_refs)
+        self.check_circuit_boards(circuits, board_refs)
+
+        if drawing.routes_layer:
+            if drawing_ok:
+                self.apply_drawing(drawing, boards, board_refs, circuits)
+            else:
+                self._drawing_failed = True
+
+        # what neither the plan file nor the drawing gave (unless the drawing
+        # that should have given it could not be read: that is reported already)
+        if not self._drawing_failed:
+            for b in boards:
+                if b["at"] is None and "at" not in b["m"]:
+                    self.missing(b["node"], b["kw"]["where"].path, "at",
+                                 "plan position [x, y] in metres; give it here or "
+                                 "draw the board on the floor plan")
+            for c in circuits:
+                if c["kw"]["route"] is None and "route" not in c["m"]:
+                    self.add("this circuit has no route; expected 'route: [[x, y], "
+                             "...]' in plan metres, or the route drawn on the floor "
+                             "plan's routes layer", _join(c["kw"]["where"].path, "route"),
+                             c["node"])
+
+        extra = {}
+        for knode, vnode in root.value:
+            if knode.__class__ is ScalarNode and knode.value.startswith("x-"):
+                try:
+                    extra[knode.value] = self._yaml.construct_document(vnode)
+                except yaml.YAMLError as exc:
+                    self.add(f"cannot read this value: {exc}", knode.value, vnode)
+        if self._drawing_warnings:
+            extra["warnings"] = tuple(self._drawing_warnings)
+        self.c.raise_if_any()
+        return Plan(
+            path=self.file, supply=supply, title=title, drawing=drawing,
+            settings=settings, version=FORMAT_VERSION, extra=extra,
+            boards=tuple(Board(at=b["at"], **b["kw"]) for b in boards),
+            circuits=tuple(Circuit(**c["kw"]) for c in circuits),
+        )
+
+    def supply(self, node, root):
+        path = "supply"
+        if node is None:
+            self.missing(root, "", "supply", "the supply: earthing and ze at least")
+            return None
+        m = self.mapping(node, path, _SUPPLY_KEYS, "the supply")
+        if m is None:
+            return None
+        kw = {}
+        if "ze" in m:
+            kw["ze_ohm"] = self.quantity(m["ze"], "supply.ze", "impedance", "pos")
+        else:
+            self.missing(node, path, "ze", "external earth fault loop impedance, "
+                         "such as '0.35 ohm'")
+        if "earthing" in m:
+            kw["earthing"] = self.choice(m["earthing"], "supply.earthing", EARTHING,
+                                         "earthing")
+        else:
+            self.missing(node, path, "earthing", "one of " + ", ".join(EARTHING))
+        kw["u0_v"] = (self.quantity(m["u0"], "supply.u0", "voltage", "pos")
+                      if "u0" in m else DEFAULT_U0_V)
+        kw["cmin"] = (self.plain(m["cmin"], "supply.cmin", "the minimum voltage "
+                                 "factor", 0.0, 1.0) if "cmin" in m else DEFAULT_CMIN)
+        if "electrode" in m:
+            kw["electrode_ohm"] = self.quantity(m["electrode"], "supply.electrode",
+                                                "impedance", "pos")
+            if kw.get("earthing") not in (None, "TT"):
+                self.add(f"an earth electrode (RA) applies to TT earthing only; "
+                         f"earthing here is {kw['earthing']}", "supply.electrode",
+                         m["electrode"])
+        if "ze_ohm" not in kw or "earthing" not in kw or None in kw.values():
+            return None
+        return Supply(**kw)
+
+    def defaults(self, node) -> dict:
+        """Circuit values inherited unless a circuit gives its own."""
+        d = {"ceiling_m": DEFAULT_CEILING_M, "allowance": 0.0, "extra_m": 0.0,
+             "ambient_c": DEFAULT_AMBIENT_C,
+             "test_temperature_c": DEFAULT_TEST_TEMPERATURE_C, "run": "ceiling"}
+        if node is None or node.tag == _NULL:
+            return d
+        m = self.mapping(node, "defaults", _DEFAULT_KEYS, "circuit defaults")
+        if not m:
+            return d
+        self._default_nodes = m
+        self._circuit_values(m, "defaults", d)
+        cable = {}
+        if "cable" in m:
+            cable = dict(self.cable_fields(m["cable"], "defaults.cable") or {})
+        if "cpc_with_line" in m:
+            v = self.boolean(m["cpc_with_line"], "defaults.cpc_with_line",
+                             "whether the cpc runs with the line conductors")
+            if "cpc_with_line" in cable:
+                self.add("cpc_with_line is given both here and in defaults.cable; "
+                         "keep one", "defaults.cpc_with_line", m["cpc_with_line"])
+            elif v is not None:
+                cable["cpc_with_line"] = v
+        self._default_cable = cable
+        return d
+
+    def _circuit_values(self, m: dict, path: str, out: dict) -> None:
+        """The keys shared by ``defaults`` and a circuit, into ``out``."""
+        n = m.get("ceiling")
+        if n is not None:
+            out["ceiling_m"] = self.quantity(n, f"{path}.ceiling", "length", "pos")
+        n = m.get("allowance")
+        if n is not None:
+            v = self.quantity(n, f"{path}.allowance", "percent", "nonneg")
+            out["allowance"] = None if v is None else v / 100.0
+        n = m.get("extra")
+        if n is not None:
+            out["extra_m"] = self.quantity(n, f"{path}.extra", "length", "nonneg")
+        n = m.get("ambient")
+        if n is not None:
+            out["ambient_c"] = self.quantity(n, f"{path}.ambient", "temperature", "abs")
+        n = m.get("test_temperature")
+        if n is not None:
+            out["test_temperature_c"] = self.quantity(n, f"{path}.test_temperature",
+                                                      "temperature", "abs")
+        n = m.get("run")
+        if n is not None:
+            out["run"] = self.choice(n, f"{path}.run", RUNS, "run")
+
+    def settings(self, node) -> Settings:
+        if node is None or node.tag == _NULL:
+            return Settings()
+        m = self.mapping(node, "settings", _SETTINGS_KEYS, "method settings")
+        if not m:
+            return Settings()
+        kw = {}
+        if "tight" in m:
+            v = self.quantity(m["tight"], "settings.tight", "percent", "nonneg")
+            if v is not None and v >= 100:
+                self.add(f"expected a margin below 100 %, got {m['tight'].value!r}",
+                         "settings.tight", m["tight"])
+            elif v is not None:
+                kw["tight"] = v / 100.0
+        if "alpha" in m:
+            kw["alpha"] = self.choice(m["alpha"], "settings.alpha", ALPHA_METHODS,
+                                      "temperature coefficient method")
+        if "test_limit" in m:
+            kw["test_limit"] = self.choice(m["test_limit"], "settings.test_limit",
+                                           TEST_LIMIT_METHODS, "test limit method")
+        for key in ("vdrop_lighting", "vdrop_other"):
+            if key in m:
+                kw[f"{key}_pct"] = self.quantity(m[key], f"settings.{key}", "percent",
+                                                 "pos")
+        return Settings(**{k: v for k, v in kw.items() if v is not None})
+
+    def drawing(self, node) -> tuple[Drawing, bool]:
+        """The floor plan settings; the flag says whether they are all valid."""
+        if node is None or node.tag == _NULL:
+            return Drawing(), True
+        n0 = len(self.c.problems)
+        m = self.mapping(node, "drawing", _DRAWING_KEYS, "the drawing settings")
+        if m is None:
+            return Drawing(), False
+        kw = {}
+        if "floorplan" in m:
+            kw["floorplan"] = self.floorplan(m["floorplan"])
+        if "scale" in m:
+            kw["scale"] = self.scale(m["scale"])
+        if "units_per_metre" in m:
+            kw["units_per_metre"] = self.plain(m["units_per_metre"],
+                                               "drawing.units_per_metre",
+                                               "drawing units per metre", 0.0)
+        if "calibrate" in m:
+            kw["calibrate"] = self.calibrate(m["calibrate"])
+        given = [k for k in ("scale", "units_per_metre", "calibrate") if k in m]
+        if len(given) > 1:
+            self.add(f"give only one of scale, units_per_metre and calibrate; "
+                     f"got {', '.join(given)}", "drawing", node)
+        if "routes_layer" in m:
+            kw["routes_layer"] = self.text(m["routes_layer"], "drawing.routes_layer",
+                                           "the name or id of the routes layer")
+            if "floorplan" not in m:
+                self.add("routes_layer needs a floorplan to read it from",
+                         "drawing.routes_layer", m["routes_layer"])
+        ok = len(self.c.problems) == n0
+        return Drawing(**{k: v for k, v in kw.items() if v is not None}), ok
+
+    def floorplan(self, node) -> str | None:
+        text = self.text(node, "drawing.floorplan", "the floor plan's file name")
+        if text is None:
+            return None
+        base = self.base_dir.resolve()
+        full = (base / text).resolve()
+        if not full.is_relative_to(base):
+            self.add(f"the floor plan {text!r} lies outside the plan file's folder "
+                     f"({base}); expected a file in that folder or below it",
+                     "drawing.floorplan", node)
+            return None
+        if not full.is_file():
+            self.add(f"floor plan {text!r} not found (looked for {full}); expected an "
+                     "SVG file beside the plan file", "drawing.floorplan", node)
+            return None
+        if full.suffix.lower() != ".svg":
+            self.add(f"expected an SVG file (.svg), got {text!r}", "drawing.floorplan",
+                     node)
+            return None
+        return str(full)
+
+    def scale(self, node) -> float | None:
+        m = _SCALE.match(node.value) if node.__class__ is ScalarNode else None
+        if m:
+            a, b = float(m.group(1)), float(m.group(2))
+            if a > 0 and b > 0:
+                return b / a
+        self.add(f"expected a drawing scale such as '1:50', got {_describe(node)}",
+                 "drawing.scale", node)
+        return None
+
+    def calibrate(self, node):
+        path = "drawing.calibrate"
+        m = self.mapping(node, path, _CALIBRATE_KEYS, "two drawing points a known "
+                         "length apart")
+        if m is None:
+            return None
+        out = []
+        for key, what in (("from", "drawing point [x, y]"), ("to", "drawing point [x, y]"),
+                          ("length", "the real length between them, such as '3.6 m'")):
+            if key not in m:
+                self.missing(node, path, key, what)
+                out.append(None)
+            elif key == "length":
+                out.append(self.quantity(m[key], f"{path}.length", "length", "pos"))
+            else:
+                out.append(self._drawing_point(m[key], f"{path}.{key}"))
+        if None in out:
+            return None
+        if out[0] == out[1]:
+            self.add("calibration points 'from' and 'to' are the same point; expected "
+                     "two different points", path, node)
+            return None
+        return (out[0], out[1], out[2])
+
+    def _drawing_point(self, node, path):
+        """[x, y] in drawing units: plain numbers."""
+        if node.__class__ is SequenceNode and len(node.value) == 2:
+            xy = [self.plain(v, f"{path}[{i}]", "a drawing coordinate")
+                  for i, v in enumerate(node.value)]
+            return None if None in xy else tuple(xy)
+        self.add(f"expected a drawing point [x, y] in drawing units, got "
+                 f"{_describe(node)}", path, node)
+        return None
+
+    # -- boards
+    def boards(self, node) -> list[dict]:
+        """Boards as {"kw": Board fields but ``at``, "at", "m", "node"}."""
+        items = self.sequence(node, "boards", "boards")
+        if items is None:
+            return []
+        if not items:
+            self.add("expected at least one board", "boards", node)
+        out = []
+        seen: dict[str, str] = {}
+        for i, item in enumerate(items):
+            path = f"boards[{i}]"
+            m = self.mapping(item, path, _BOARD_KEYS, "a board")
+            if m is None:
+                continue
+            kw = {"ref": None, "height_m": DEFAULT_BOARD_HEIGHT_M, "fed_from": None,
+                  "where": Where(self.file, path, _line(item))}
+            b = {"kw": kw, "at": None, "m": m, "node": item}
+            if "ref" in m:
+                ref = kw["ref"] = self.text(m["ref"], f"{path}.ref", "the board's ref")
+                if ref in seen:
+                    self.add(f"board ref '{ref}' is used twice (also {seen[ref]}); "
+                             "expected each board's ref to be unique", f"{path}.ref",
+                             m["ref"])
+                elif ref is not None:
+                    seen[ref] = f"{path}, line {_line(item)}"
+            else:
+                self.missing(item, path, "ref", "the board's name, such as CU1")
+            if "at" in m:
+                b["at"] = self.point(m["at"], f"{path}.at")
+            if "height" in m:
+                kw["height_m"] = self.quantity(m["height"], f"{path}.height", "length",
+                                               "nonneg")
+            if "fed_from" in m:
+                kw["fed_from"], b["fed_board"] = self.fed_from(m["fed_from"],
+                                                               f"{path}.fed_from")
+            out.append(b)
+        return out
+
+    def fed_from(self, node, path: str):
+        """-> (SubMain or None, the node naming the upstream board or None)."""
+        m = self.mapping(node, path, _FED_KEYS, "the sub-main feeding this board")
+        if m is None:
+            return None, None
+        kw = {}
+        for key, what in (("board", "the upstream board's ref"),
+                          ("cable", "the sub-main cable: line and cpc"),
+                          ("length", "the sub-main's length, such as '18 m'"),
+                          ("device", "the upstream protective device")):
+            if key not in m:
+                self.missing(node, path, key, what)
+        if "board" in m:
+            kw["board"] = self.text(m["board"], f"{path}.board", "the upstream "
+                                    "board's ref")
+        if "cable" in m:
+            fields = self.cable_fields(m["cable"], f"{path}.cable")
+            if fields is not None:
+                kw["cable"] = self.make_cable(fields, f"{path}.cable", m["cable"])
+        if "length" in m:
+            kw["length_m"] = self.quantity(m["length"], f"{path}.length", "length",
+                                           "nonneg")
+        if "device" in m:
+            kw["device"] = self.device(m["device"], f"{path}.device")
+        if "load" in m and m["load"].tag != _NULL:
+            kw["load_a"] = self.quantity(m["load"], f"{path}.load", "current",
+                                         "nonneg")
+        if len(kw) < 4 or None in kw.values():
+            return None, None
+        return SubMain(**kw), m["board"]
+
+    def check_feeds(self, boards, refs) -> None:
+        """Every ``fed_from`` names a known board, and no chain of feeds loops."""
+        up: dict[str, str] = {}
+        for b in boards:
+            ref, sub = b["kw"]["ref"], b["kw"]["fed_from"]
+            if sub is None or ref is None:
+                continue
+            path = b["kw"]["where"].path + ".fed_from.board"
+            node = b["fed_board"]
+            if sub.board == ref:
+                self.add(f"board '{ref}' cannot be fed from itself; expected the "
+                         "ref of the upstream board", path, node)
+            elif sub.board not in refs:
+                self.add(f"fed_from names unknown board '{sub.board}'; "
+                         f"{_did_you_mean(sub.board, list(refs))}", path, node)
+            else:
+                up[ref] = sub.board
+        in_loop: set[str] = set()
+        for start in up:
+            chain, ref = [], start
+            while ref in up and ref not in chain and ref not in in_loop:
+                chain.append(ref)
+                ref = up[ref]
+            if ref in chain:
+                loop = chain[chain.index(ref):]
+                in_loop.update(loop)
+                b = refs[loop[0]]
+                names = " <- ".join(loop + [loop[0]])
+                self.add(f"fed_from makes a loop ({names}); expected every board to "
+                         "be fed, in the end, from the supply",
+                         b["kw"]["where"].path + ".fed_from.board", b["fed_board"])
+
+    # -- circuits
+    def circuits(self, node, defaults: dict) -> list[dict]:
+        """Circuits as {"kw": Circuit fields, "m": key -> node, "node"}."""
+        items = self.sequence(node, "circuits", "circuits")
+        if items is None:
+            return []
+        if not items:
+            self.add("expected at least one circuit", "circuits", node)
+        out = []
+        for i, item in enumerate(items):
+            c = self.circuit(item, f"circuits[{i}]", defaults)
+            if c is not None:
+                out.append(c)
+        return out
+
+    def circuit(self, node, path: str, defaults: dict):
+        m = self.mapping(node, path, _CIRCUIT_KEYS, "a circuit")
+        if m is None:
+            return None
+        kw = {"ref": None, "board": None, "device": None, "cable": None,
+              "route": None, "outlets": (), **defaults}
+        for key, what in (("ref", "the circuit's ref, unique within its board"),
+                          ("board", "the ref of the board it leaves from"),
+                          ("device", "its protective device, such as "
+                           "{type: mcb, curve: B, rating: 32 A}")):
+            n = m.get(key)
+            if n is None:
+                self.missing(node, path, key, what)
+            elif key == "device":
+                kw["device"] = self.device(n, f"{path}.device")
+            else:
+                kw[key] = self.text(n, f"{path}.{key}", what)
+        n = m.get("name")
+        if n is not None and n.tag != _NULL:
+            kw["name"] = self.text(n, f"{path}.name", "a name") or ""
+        n = m.get("use")
+        if n is not None:
+            kw["use"] = self.choice(n, f"{path}.use", USES, "use")
+        n = m.get("topology")
+        if n is not None:
+            kw["topology"] = self.choice(n, f"{path}.topology", TOPOLOGIES, "topology")
+        n = m.get("rcd")
+        if n is not None and n.tag != _NULL:
+            kw["rcd_a"] = self.quantity(n, f"{path}.rcd", "current", "pos")
+        n = m.get("load")
+        if n is not None and n.tag != _NULL:
+            kw["load_a"] = self.quantity(n, f"{path}.load", "current", "nonneg")
+        self._circuit_values(m, path, kw)
+
+        # the cable: defaults.cable, overridden key by key by the circuit's own
+        n = m.get("cable")
+        if n is None:
+            if self._default_cable:
+                kw["cable"] = self.make_cable(self._default_cable, f"{path}.cable", node)
+            else:
+                self.missing(node, path, "cable", "its cable: line and cpc csa, such "
+                             "as {line: 2.5 mm2, cpc: 1.5 mm2}")
+        else:
+            own = self.cable_fields(n, f"{path}.cable")
+            if own is not None:
+                kw["cable"] = self.make_cable({**self._default_cable, **own},
+                                              f"{path}.cable", n)
+        cable, ambient = kw["cable"], kw["ambient_c"]
+        if cable is not None and ambient is not None and ambient >= cable.temp_rating_c:
+            src, where = m.get("ambient"), f"{path}.ambient"
+            if src is None:   # inherited: report it once, at defaults.ambient
+                src, where = self._default_nodes.get("ambient", node), "defaults.ambient"
+            if (where, cable.temp_rating_c) not in self._reported:
+                self._reported.add((where, cable.temp_rating_c))
+                self.add(f"ambient {ambient:g} °C is not below the cable's maximum "
+                         f"operating temperature {cable.temp_rating_c:g} °C; expected a "
+                         "lower ambient or a cable rated hotter", where, src)
+
+        n = m.get("route")
+        if n is not None:
+            kw["route"] = self.route(n, f"{path}.route")
+        n = m.get("outlets")
+        if n is not None:
+            kw["outlets"] = self.outlets(n, f"{path}.outlets",
+                                         _KIND_OF_USE.get(kw.get("use") or "sockets"))
+        kw["where"] = Where(self.file, path, _line(node))
+        return {"kw": kw, "m": m, "node": node}
+
+    def route(self, node, path: str):
+        items = self.sequence(node, path, "points [x, y] in plan metres")
+        if items is None:
+            return None
+        if len(items) < 2:
+            self.add(f"expected a route of at least 2 points [x, y], got {len(items)}",
+                     path, node)
+            return None
+        pts = [self.point(p, f"{path}[{j}]") for j, p in enumerate(items)]
+        return None if None in pts else tuple(pts)
+
+    def outlets(self, node, path: str, default_kind: str | None):
+        items = self.sequence(node, path, "outlets")
+        if items is None:
+            return None
+        out = []
+        for j, item in enumerate(items):
+            p = f"{path}[{j}]"
+            m = self.mapping(item, p, _OUTLET_KEYS, "an outlet")
+            if m is None:
+                out.append(None)
+                continue
+            at = height = None
+            if "at" in m:
+                at = self.point(m["at"], f"{p}.at")
+            else:
+                self.missing(item, p, "at", "its plan position [x, y] in metres")
+            if "height" in m:
+                height = self.quantity(m["height"], f"{p}.height", "length", "nonneg")
+            else:
+                self.missing(item, p, "height", "its height above the floor, such "
+                             "as '0.45 m'")
+            name = ""
+            if "name" in m and m["name"].tag != _NULL:
+                name = self.text(m["name"], f"{p}.name", "a name") or ""
+            kind = default_kind or "socket"
+            if "kind" in m:
+                kind = self.choice(m["kind"], f"{p}.kind", OUTLET_KINDS, "outlet kind")
+            if at is None or height is None or kind is None:
+                out.append(None)
+            else:
+                out.append(Outlet(at, height, name, kind))
+        return None if None in out else tuple(out)
+
+    def check_circuit_boards(self, circuits, refs) -> None:
+        """Each circuit's board exists; (board, ref) pairs are unique."""
+        seen: dict[tuple[str, str], str] = {}
+        known = list(refs)
+        for c in circuits:
+            kw, m = c["kw"], c["m"]
+            board, ref = kw["board"], kw["ref"]
+            if board is not None and refs and board not in refs:
+                self.add(f"unknown board '{board}'; {_did_you_mean(board, known)}",
+                         _join(kw["where"].path, "board"), m["board"])
+            if board is None or ref is None:
+                continue
+            first = seen.get((board, ref))
+            if first is not None:
+                self.add(f"circuit ref '{ref}' is used twice on board {board} (also "
+                         f"{first}); expected refs unique within a board",
+                         _join(kw["where"].path, "ref"), m["ref"])
+            else:
+                seen[(board, ref)] = f"{kw['where'].path}, line {kw['where'].line}"
+
+    # -- devices and cables
+    def device(self, node, path: str):
+        key = _flat_key(node)
+        if key is not None:
+            dev = self._device_cache.get(key)
+            if dev is not None:
+                return dev
+        n0 = len(self.c.problems)
+        m = self.mapping(node, path, _DEVICE_KEYS, "a protective device")
+        if m is None:
+            return None
+        dtype = curve = rating = None
+        if "type" in m:
+            dtype = self.choice(m["type"], f"{path}.type", DEVICE_TYPES, "device type")
+        else:
+            self.missing(node, path, "type", "one of " + ", ".join(DEVICE_TYPES))
+        if "rating" in m:
+            rating = self.quantity(m["rating"], f"{path}.rating", "current", "pos")
+        else:
+            self.missing(node, path, "rating", "the rated current In, such as '32 A'")
+        family = None
+        if "family" in m:
+            family = self.text(m["family"], f"{path}.family", "a device family name")
+        if dtype == "fuse":
+            if "curve" in m:
+                self.add("'curve' applies to circuit-breakers (mcb, rcbo), not fuses; "
+                         "expected 'standard' instead", f"{path}.curve", m["curve"])
+            if "standard" in m:
+                if "family" in m:
+                    self.add("give either 'standard' or 'family' for a fuse, not both",
+                             f"{path}.family", m["family"])
+                family = self.choice(m["standard"], f"{path}.standard", FUSE_STANDARDS,
+                                     "fuse standard")
+            elif "family" not in m:
+                self.missing(node, path, "standard", "one of " + ", ".join(FUSE_STANDARDS))
+        elif dtype is not None:
+            if "standard" in m:
+                self.add(f"'standard' applies to fuses, not {dtype}; expected 'curve' "
+                         f"({', '.join(CURVES)})", f"{path}.standard", m["standard"])
+            if "curve" in m:
+                curve = self.choice(m["curve"], f"{path}.curve", CURVES,
+                                    "circuit-breaker type")
+            else:
+                self.missing(node, path, "curve", "the circuit-breaker type: " +
+                             ", ".join(CURVES))
+            if "family" not in m:
+                family = dtype
+        if len(self.c.problems) != n0 or None in (dtype, family, rating):
+            return None
+        dev = Device(dtype, family, rating, curve)
+        if self._check_device is not None:
+            if dev not in self._checked:
+                self._checked[dev] = self._check_device(dev)
+            msg = self._checked[dev]
+            if msg:
+                self.add(msg, path, node)
+                return None
+        if key is not None:
+            self._device_cache[key] = dev
+        return dev
+
+    def cable_fields(self, node, path: str):
+        """A cable mapping -> dict of the fields given (not yet defaulted)."""
+        key = _flat_key(node)
+        if key is not None:
+            got = self._cable_cache.get(key)
+            if got is not None:
+                return got
+        n0 = len(self.c.problems)
+        m = self.mapping(node, path, _CABLE_KEYS, "a cable")
+        if m is None:
+            return None
+        f = {}
+        if "line" in m:
+            f["line_mm2"] = self.quantity(m["line"], f"{path}.line", "area", "pos")
+        if "cpc" in m:
+            f["cpc_mm2"] = self.quantity(m["cpc"], f"{path}.cpc", "area", "pos")
+        if "material" in m:
+            f["material"] = self.choice(m["material"], f"{path}.material", MATERIALS,
+                                        "conductor material")
+        if "temp_rating" in m:
+            t = self.quantity(m["temp_rating"], f"{path}.temp_rating", "temperature")
+            for rated in TEMP_RATINGS_C:
+                if t is not None and abs(t - rated) < 1e-6:
+                    f["temp_rating_c"] = rated
+                    break
+            else:
+                if t is not None:
+                    self.add(f"expected a maximum operating temperature of 70 degC "
+                             f"or 90 degC, got {m['temp_rating'].value!r}",
+                             f"{path}.temp_rating", m["temp_rating"])
+        if "cpc_with_line" in m:
+            f["cpc_with_line"] = self.boolean(m["cpc_with_line"], f"{path}.cpc_with_line",
+                                              "whether the cpc runs with the line "
+                                              "conductors")
+        if "insulation" in m:
+            f["insulation"] = self.choice(m["insulation"], f"{path}.insulation",
+                                          INSULATIONS, "insulation")
+        if len(self.c.problems) != n0:
+            return None
+        if key is not None:
+            self._cable_cache[key] = f
+        return f
+
+    def make_cable(self, fields: dict, path: str, node):
+        """Merged cable fields -> Cable, with the contract's defaults."""
+        ok = True
+        for k, key, what in (("line_mm2", "line", "line conductor csa, such as '2.5 mm2'"),
+                             ("cpc_mm2", "cpc", "protective conductor csa, such as "
+                              "'1.5 mm2'")):
+            if k not in fields:
+                ok = False
+                self.missing(node, path, key, f"{what}; not given here nor in "
+                             "defaults.cable")
+        if not ok:
+            return None
+        key = tuple(fields.items())
+        cable = self._cables.get(key)
+        if cable is None:
+            temp = fields.get("temp_rating_c", 70.0)
+            insulation = fields.get("insulation") or (
+                "thermosetting" if temp == 90.0 else "thermoplastic")
+            cable = self._cables[key] = Cable(
+                fields["line_mm2"], fields["cpc_mm2"], fields.get("material", "copper"),
+                temp, fields.get("cpc_with_line", True), insulation)
+        return cable
+
+    # -- the drawing
+    def apply_drawing(self, drawing, boards, board_refs, circuits) -> None:
+        """Fill boards' positions and circuits' routes and outlets from the SVG."""
+        svg = drawing.floorplan
+        try:
+            drawn = _read_drawing(svg, scale=drawing.scale,
+                                  units_per_metre=drawing.units_per_metre,
+                                  calibrate=drawing.calibrate,
+                                  routes_layer=drawing.routes_layer,
+                                  plan_file=self.file)
+        except PlanError as exc:
+            self.c.problems.extend(exc.problems)
+            self._drawing_failed = True
+            return
+        self._drawing_warnings = list(getattr(drawn, "warnings", ()) or ())
+        layer = drawing.routes_layer
+
+        def problem(msg, where):
+            self.c.problems.append(Problem(svg, msg, where))
+
+        by_full = {}
+        by_ref: dict[str, list] = {}
+        for c in circuits:
+            kw = c["kw"]
+            if kw["board"] is None or kw["ref"] is None:
+                continue
+            by_full[f"{kw['board']}/{kw['ref']}"] = c
+            by_ref.setdefault(kw["ref"], []).append(c)
+
+        def match(name, what):
+            c = by_full.get(name)
+            if c is not None:
+                return c
+            same = by_ref.get(name, [])
+            if len(same) == 1:
+                return same[0]
+            if same:
+                problem(f"{what} '{name}' could be any of " +
+                        ", ".join(f"{s['kw']['board']}/{name}" for s in same) +
+                        "; expected its label as BOARD/REF", f"{what} '{name}'")
+            else:
+                problem(f"{what} '{name}' on layer '{layer}' matches no circuit; "
+                        "expected a label BOARD/REF or REF of a circuit in the plan",
+                        f"{what} '{name}'")
+            return None
+
+        drawn_route = set()
+        for name, pts in drawn.routes.items():
+            c = match(name, "drawn route")
+            if c is None:
+                continue
+            kw = c["kw"]
+            label = f"{kw['board']}/{kw['ref']}"
+            if id(c) in drawn_route:
+                problem(f"circuit {label} is drawn twice; expected one route per "
+                        "circuit", f"drawn route '{name}'")
+            elif "route" in c["m"]:
+                problem(f"circuit {label} has a route in the plan file "
+                        f"({kw['where'].path}.route) and one drawn here; keep one",
+                        f"drawn route '{name}'")
+            else:
+                kw["route"] = tuple((float(x), float(y)) for x, y in pts)
+                drawn_route.add(id(c))
+
+        drawn_outlets: dict[int, list] = {}
+        for o in drawn.outlets:
+            c = match(o.circuit, "drawn outlet")
+            if c is None:
+                continue
+            kw = c["kw"]
+            label = f"{kw['board']}/{kw['ref']}"
+            oname = o.name or "(unnamed)"
+            if "outlets" in c["m"]:
+                problem(f"circuit {label} lists outlets in the plan file "
+                        f"({kw['where'].path}.outlets) and has outlet '{oname}' drawn "
+                        "here; keep one", f"drawn outlet '{oname}'")
+                continue
+            if o.height_m is None:
+                problem(f"drawn outlet '{oname}' of circuit {label} has no height; "
+                        "expected its height above the floor in the drawing",
+                        f"drawn outlet '{oname}'")
+                continue
+            kind = o.kind or _KIND_OF_USE.get(kw.get("use") or "sockets", "socket")
+            if kind not in OUTLET_KINDS:
+                problem(f"unknown outlet kind '{kind}' for drawn outlet '{oname}'; "
+                        f"expected one of {', '.join(OUTLET_KINDS)}",
+                        f"drawn outlet '{oname}'")
+                continue
+            drawn_outlets.setdefault(id(c), []).append(
+                Outlet((float(o.at[0]), float(o.at[1])), float(o.height_m),
+                       o.name or "", kind))
+        for c in circuits:
+            if id(c) in drawn_outlets:
+                c["kw"]["outlets"] = tuple(drawn_outlets[id(c)])
+
+        for ref, at in drawn.boards.items():
+            b = board_refs.get(ref)
+            if b is None:
+                problem(f"drawn board '{ref}' is not among the plan's boards; "
+                        f"{_did_you_mean(ref, list(board_refs))}", f"drawn board '{ref}'")
+            elif "at" in b["m"]:
+                problem(f"board {ref} has a position in the plan file "
+                        f"({b['kw']['where'].path}.at) and one drawn here; keep one",
+                        f"drawn board '{ref}'")
+            else:
+                b["at"] = (float(at[0]), float(at[1]))
+
+
+def _flat_key(node):
+    """A hashable key for a flat mapping of scalars (to reuse its result), else None."""
+    if node.__class__ is not MappingNode:
+        return None
+    key = []
+    for k, v in node.value:
+        if v.__class__ is not ScalarNode or k.__class__ is not ScalarNode or k.tag == _MERGE:
+            return None
+        key.append((k.value, v.tag, v.value))
+    return tuple(key)

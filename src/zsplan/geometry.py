@@ -47,8 +47,6 @@ References
 """
 from __future__ import annotations
 
-import contextlib
-import gc
 from dataclasses import dataclass
 from typing import Sequence
 
@@ -57,6 +55,7 @@ import shapely
 
 from .errors import PlanError, Problem
 from .model import Circuit, Plan
+from ._runtime import gc_paused
 
 __all__ = [
     "PointLength",
@@ -232,23 +231,6 @@ def route_lengths(routes: Sequence) -> np.ndarray:
     return _build_lines(coords, counts)[1]
 
 
-@contextlib.contextmanager
-def _gc_paused():
-    """Pause the cyclic garbage collector while many small objects are made.
-
-    Building one shapely geometry per outlet and one result object per point
-    allocates hundreds of thousands of objects for a large plan; each
-    allocation burst would otherwise trigger collections that walk the whole
-    plan model (about half the run time at 50 000 circuits).  Nothing made
-    here forms reference cycles.
-    """
-    was_enabled = gc.isenabled()
-    gc.disable()
-    try:
-        yield
-    finally:
-        if was_enabled:
-            gc.enable()
 
 
 def _drops_either_side(drop: np.ndarray, n_out: np.ndarray, start: np.ndarray):
@@ -349,7 +331,7 @@ def circuit_lengths(plan: Plan, *, tolerance_m: float = DEFAULT_TOLERANCE_M
     tol = float(tolerance_m)
     if not np.isfinite(tol) or tol < 0:
         raise ValueError(f"tolerance_m must be a finite length >= 0, got {tolerance_m!r}")
-    with _gc_paused():
+    with gc_paused():
         return _circuit_lengths(plan, tol)
 
 

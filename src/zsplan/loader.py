@@ -28,9 +28,7 @@ References
 """
 from __future__ import annotations
 
-import contextlib
 import difflib
-import gc
 import math
 import re
 from pathlib import Path
@@ -40,6 +38,7 @@ from yaml.nodes import MappingNode, ScalarNode, SequenceNode
 
 from zsplan import units
 from zsplan.errors import Collector, PlanError, Problem
+from zsplan._runtime import gc_paused
 from zsplan.model import (DEVICE_TYPES, EARTHING, MATERIALS, RUNS, TOPOLOGIES,
                           USES, Board, Cable, Circuit, Device, Drawing, Outlet,
                           Plan, Settings, SubMain, Supply, Where)
@@ -177,7 +176,7 @@ def load_plan_text(text: str, *, file: str = "<string>", base_dir=".") -> Plan:
     zsplan.errors.PlanError
         Listing every problem found.
     """
-    with _gc_paused():
+    with gc_paused():
         root = _compose(text, file)
         try:
             return _Reader(file, base_dir).plan(root)
@@ -185,22 +184,6 @@ def load_plan_text(text: str, *, file: str = "<string>", base_dir=".") -> Plan:
             del root   # free the node tree before the collector runs again
 
 
-@contextlib.contextmanager
-def _gc_paused():
-    """Pause the cyclic garbage collector while the node tree is built and read.
-
-    A large plan makes millions of small node and mark objects; each burst of
-    allocations would otherwise start collections that walk all of them
-    (about three quarters of the load time of a 10 000-circuit plan).  The
-    node tree and the model hold no reference cycles.
-    """
-    was_enabled = gc.isenabled()
-    gc.disable()
-    try:
-        yield
-    finally:
-        if was_enabled:
-            gc.enable()
 
 
 # --- YAML ----------------------------------------------------------------------
@@ -256,7 +239,7 @@ def _a(word: str) -> str:
 
 
 def _expect_text(kind: str) -> str:
-    examples = getattr(units, "_EXAMPLES", {}).get(kind)
+    examples = units.EXAMPLES.get(kind)
     return f"{_a(kind)} such as {examples}" if examples else _a(kind)
 
 

@@ -112,7 +112,7 @@ def breaker_points(rating_a: float, instantaneous: Sequence[float], five_second:
     published curve): between the standard's points a real breaker operates
     sooner; the line is an upper bound consistent with them.
     """
-    k_low, k_high = float(instantaneous[0]), float(instantaneous[1])
+    k_high = float(instantaneous[1])   # the lower limit of the band gives no upper bound
     i1 = float(thermal["conventional_tripping"]) * rating_a
     t1 = _lookup(thermal["conventional_time_s"], rating_a)
     i2 = float(thermal["test_c_multiple"]) * rating_a

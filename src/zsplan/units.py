@@ -40,7 +40,7 @@ KINDS: dict[str, tuple[str, str]] = {
     "time": ("s", "[time]"),
 }
 
-_EXAMPLES = {
+EXAMPLES = {
     "length": "'12 m', '40 ft' or '3 ft 6 in'",
     "area": "'2.5 mm2'",
     "impedance": "'0.35 ohm' or '350 mohm'",
@@ -97,7 +97,7 @@ def _parse_cached(text: str, kind: str) -> float:
         return float(m.group(1)) * 0.3048 + float(m.group(2)) * 0.0254
     m = _SPLIT.match(text)
     if not m:
-        raise UnitProblem(f"expected {_a(kind)} such as {_EXAMPLES[kind]}, got {text!r}")
+        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {text!r}")
     number, unit_text = float(m.group(1)), m.group(2)
     if not unit_text:
         return number
@@ -109,10 +109,10 @@ def _parse_cached(text: str, kind: str) -> float:
         name = type(exc).__name__
         if name == "DimensionalityError":
             raise UnitProblem(
-                f"expected {_a(kind)} such as {_EXAMPLES[kind]}, got {text!r} "
+                f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {text!r} "
                 f"(unit {unit_text!r} is not {_a(kind)})") from None
         raise UnitProblem(
-            f"expected {_a(kind)} such as {_EXAMPLES[kind]}, got {text!r} "
+            f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {text!r} "
             f"(unknown unit {unit_text!r})") from None
     return float(value)
 
@@ -128,13 +128,13 @@ def parse(value, kind: str) -> float:
     if kind not in KINDS:
         raise KeyError(kind)
     if isinstance(value, bool) or value is None:
-        raise UnitProblem(f"expected {_a(kind)} such as {_EXAMPLES[kind]}, got {value!r}")
+        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {value!r}")
     if isinstance(value, (int, float)):
         out = float(value)
     elif isinstance(value, str):
         out = _parse_cached(value.strip(), kind)
     else:
-        raise UnitProblem(f"expected {_a(kind)} such as {_EXAMPLES[kind]}, got {value!r}")
+        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {value!r}")
     if not math.isfinite(out):
         raise UnitProblem(f"expected a finite {kind}, got {value!r}")
     return out

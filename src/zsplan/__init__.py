@@ -23,13 +23,10 @@ def __getattr__(name):
     if name == "load_plan":
         from .loader import load_plan
         return load_plan
-    if name == "render":
-        from .render import render
-        return render
     if name in ("PlanError", "ZsplanError"):
         from . import errors
         return getattr(errors, name)
     raise AttributeError(f"module 'zsplan' has no attribute {name!r}")
 
 
-__all__ = ["check", "load_plan", "render", "PlanError", "ZsplanError", "CAUTION", "__version__"]
+__all__ = ["check", "load_plan", "PlanError", "ZsplanError", "CAUTION", "__version__"]

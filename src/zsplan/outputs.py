@@ -40,6 +40,12 @@ def check_output_path(out: str | os.PathLike, inputs: Iterable[str | os.PathLike
     return target
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def write_atomic(out: str | os.PathLike, data: bytes | str,
                  inputs: Iterable[str | os.PathLike] = ()) -> Path:
     """Write ``data`` to ``out`` atomically (temporary file, then rename).
@@ -61,6 +67,7 @@ def write_atomic(out: str | os.PathLike, data: bytes | str,
             fh.write(payload)
             fh.flush()
             os.fsync(fh.fileno())
+        os.chmod(tmp, 0o666 & ~_umask())   # mkstemp makes 0600; outputs are ordinary files
         os.replace(tmp, target)
     except BaseException:
         try:

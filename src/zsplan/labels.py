@@ -1,0 +1,453 @@
+"""Placing route labels on the marked-up plan so that they stay readable.
+
+Every route gets one label.  :func:`place_labels` puts it beside the route's
+longest straight segment, turned to run along it and kept upright (text
+reads from the bottom or the right-hand side of the sheet, as ISO 128-style
+drawings do), clear of the labels already placed and of the plan symbols.
+The placement is greedy, label by label in the order given:
+
+1. candidate boxes along each of the route's longest segments (several
+   positions along the segment, on either side of the line, offset by the
+   line's half width plus a gap); a candidate must lie inside the drawing
+   area and touch no placed label, leader line or symbol; among the free ones
+   the best by a score that prefers long segments, the middle of a segment,
+   the upper/left side and as few crossings of other routes as possible;
+2. the same with a smaller font;
+3. a horizontal label near the route joined to it by a thin leader line
+   that runs through no other label or symbol (it may cross other leaders);
+4. the same, letting the leader cross labels (fewest first);
+5. if even that fails, the best candidate of step 1 is used and its
+   collisions are counted (:attr:`Placement.collisions`), never hidden.
+
+Text widths are computed from the advance widths of the DejaVu Sans font
+(the font the renderers ask for), so the label box fits the printed text.
+
+References
+----------
+.. [1] ISO 128-20:1996 / ISO 3098-0:1997, technical drawings: lines and
+   lettering (text readable from the bottom or the right-hand side of the
+   drawing; from memory).
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+import shapely.ops
+from shapely import STRtree
+from shapely.geometry import LineString, Polygon, box
+
+__all__ = [
+    "LabelSpec",
+    "Placement",
+    "count_overlaps",
+    "label_polygon",
+    "place_labels",
+    "text_width",
+    "upright_angle",
+]
+
+#: Font units per em of DejaVu Sans.
+UNITS_PER_EM = 2048
+
+# Advance widths of DejaVu Sans 2.37 (Book and Bold), font units of 2048 per
+# em, read from the font files with cairo's text extents (metric hinting off).
+# Characters in the order of this string:
+_CHARS = (" !\"#$%&'()*+,-./0123456789:;<=>?@ABCDEFGHIJKLMNOPQRSTUVWXYZ[\\]^_`"
+          "abcdefghijklmnopqrstuvwxyz{|}~·Ω°²³µ–—−≤≥…±×")
+_BOOK = (
+    651, 821, 942, 1716, 1303, 1946, 1597, 563, 799, 799, 1024, 1716, 651, 739, 651, 690,
+    1303, 1303, 1303, 1303, 1303, 1303, 1303, 1303, 1303, 1303, 690, 690, 1716, 1716, 1716,
+    1087, 2048, 1401, 1405, 1430, 1577, 1294, 1178, 1587, 1540, 604, 604, 1343, 1141, 1767,
+    1532, 1612, 1235, 1612, 1423, 1300, 1251, 1499, 1401, 2025, 1403, 1251, 1403, 799, 690,
+    799, 1716, 1024, 1024, 1255, 1300, 1126, 1300, 1260, 721, 1300, 1298, 569, 569, 1186,
+    569, 1995, 1298, 1253, 1300, 1300, 842, 1067, 803, 1298, 1212, 1675, 1212, 1212, 1075,
+    1303, 690, 1303, 1716, 651, 1565, 1024, 821, 821, 1303, 1024, 2048, 1716, 1716, 1716,
+    2048, 1716, 1716)
+_BOLD = (
+    713, 934, 1067, 1716, 1425, 2052, 1786, 627, 936, 936, 1071, 1716, 778, 850, 778, 748,
+    1425, 1425, 1425, 1425, 1425, 1425, 1425, 1425, 1425, 1425, 819, 819, 1716, 1716, 1716,
+    1188, 2048, 1585, 1561, 1503, 1700, 1399, 1399, 1681, 1714, 762, 762, 1587, 1305, 2038,
+    1714, 1741, 1501, 1741, 1577, 1475, 1397, 1663, 1585, 2259, 1579, 1483, 1485, 936, 748,
+    936, 1716, 1024, 1024, 1382, 1466, 1214, 1466, 1389, 891, 1466, 1458, 702, 702, 1362,
+    702, 2134, 1458, 1407, 1466, 1466, 1010, 1219, 979, 1458, 1335, 1892, 1321, 1335, 1192,
+    1458, 748, 1458, 1716, 778, 1741, 1024, 897, 897, 1507, 1024, 2048, 1716, 1716, 1716,
+    2048, 1716, 1716)
+_ADVANCE = {False: dict(zip(_CHARS, _BOOK)), True: dict(zip(_CHARS, _BOLD))}
+#: Width assumed for a character not in the table (a wide letter). [font units]
+_UNKNOWN = 2048
+
+
+def text_width(text: str, font_size: float, bold: bool = False) -> float:
+    """Width of a line of text set in DejaVu Sans.
+
+    .. math:: w = \\frac{s}{2048} \\sum_i a_i
+
+    with :math:`s` the font size and :math:`a_i` the advance widths of the
+    characters in font units (2048 per em); unknown characters count as a
+    full em.
+
+    Parameters
+    ----------
+    text : str
+    font_size : float
+        Font size (em). [mm]
+    bold : bool, optional
+
+    Returns
+    -------
+    float
+        Advance width of the text. [mm]
+    """
+    table = _ADVANCE[bool(bold)]
+    units = sum(table.get(ch, _UNKNOWN) for ch in text)
+    return units * font_size / UNITS_PER_EM
+
+
+def upright_angle(dx: float, dy: float) -> float:
+    """Text angle (degrees, SVG sense: clockwise on a y-down sheet) for a line
+    running along ``(dx, dy)``, turned so that the text stays upright.
+
+    The result lies in [-90, 90): horizontal text reads left to right and
+    vertical text reads upwards (from the right-hand side of the sheet).
+    """
+    a = math.degrees(math.atan2(dy, dx))
+    if a >= 90.0:
+        a -= 180.0
+    elif a < -90.0:
+        a += 180.0
+    if a >= 90.0 - 1e-9:
+        a = -90.0
+    return a
+
+
+def label_polygon(cx: float, cy: float, width: float, height: float, angle_deg: float) -> Polygon:
+    """The box of a label centred on ``(cx, cy)`` turned by ``angle_deg``."""
+    a = math.radians(angle_deg)
+    ux, uy = math.cos(a), math.sin(a)
+    nx, ny = -uy, ux
+    hw, hh = width / 2.0, height / 2.0
+    pts = [(cx + sx * hw * ux + sy * hh * nx, cy + sx * hw * uy + sy * hh * ny)
+           for sx, sy in ((-1, -1), (1, -1), (1, 1), (-1, 1))]
+    return Polygon(pts)
+
+
+@dataclass(frozen=True)
+class LabelSpec:
+    """A label to place.
+
+    Attributes
+    ----------
+    key : str
+        Identifies the label (the circuit, ``"CU1/3"``).
+    text : str
+        One line of text.
+    route : tuple of (float, float)
+        The route on the sheet. [mm]
+    font_size : float
+        Preferred font size. [mm]
+    clearance : float
+        Distance kept between the route's centre line and the label box
+        (half the line width plus a gap). [mm]
+    prefix : float
+        Extra width before the text (for a warning glyph). [mm]
+    bold : bool
+    """
+
+    key: str
+    text: str
+    route: tuple
+    font_size: float = 2.5
+    clearance: float = 0.8
+    prefix: float = 0.0
+    bold: bool = False
+
+
+@dataclass(frozen=True)
+class Placement:
+    """Where a label went.
+
+    ``(cx, cy)`` is the centre of the box, ``angle`` its rotation in degrees
+    (SVG sense), ``width`` and ``height`` its size, ``font_size`` the font
+    size used; ``leader`` is ``((x_route, y_route), (x_box, y_box))`` when the
+    label sits away from its route, else None; ``collisions`` counts the
+    placed labels, leaders and symbols it touches (0 unless every other way
+    failed).  All lengths in mm.
+    """
+
+    key: str
+    text: str
+    cx: float
+    cy: float
+    angle: float
+    width: float
+    height: float
+    font_size: float
+    prefix: float
+    leader: tuple | None = None
+    collisions: int = 0
+
+    @property
+    def polygon(self) -> Polygon:
+        return label_polygon(self.cx, self.cy, self.width, self.height, self.angle)
+
+
+PAD_X = 0.6      # mm, text to box edge along the text; zsplan layout choice
+PAD_Y = 0.35     # mm, above and below; zsplan layout choice
+LINE_HEIGHT = 1.2   # box height per unit font size (ascender + descender of DejaVu Sans
+                    # is 1.164 em: 1901 + 483 font units); zsplan layout choice
+#: Room for text set with hinted metrics: rasterised by cairo at 100-150 dpi,
+#: 2-2.5 mm DejaVu Sans text measured up to 4.6 % wider than its advance widths.
+RASTER_ALLOWANCE = 1.05
+SMALLER = 0.8    # font reduction tried before a leader; zsplan layout choice
+MIN_FONT = 1.8   # smallest lettering, ISO 3098 h = 1.8 mm series (from memory)
+VERTICAL_PENALTY = 0.3   # horizontal text reads more easily; zsplan layout choice
+_ALONG = (0.5, 0.35, 0.65, 0.2, 0.8, 0.05, 0.95)
+_MAX_SEGMENTS = 6
+LEADER_STEP = 3.0    # mm between rings of leader positions; zsplan layout choice
+LEADER_RINGS = 30
+
+
+def _box_size(spec: LabelSpec, fs: float, prefix: float) -> tuple[float, float]:
+    w = text_width(spec.text, fs, spec.bold) * RASTER_ALLOWANCE + prefix + 2 * PAD_X
+    h = fs * LINE_HEIGHT + 2 * PAD_Y
+    return w, h
+
+
+def _along_candidates(spec: LabelSpec, fs: float):
+    """(cx, cy, angle, w, h, base score) for boxes along the route."""
+    pts = np.asarray(spec.route, dtype=float)
+    prefix = spec.prefix * fs / spec.font_size
+    w, h = _box_size(spec, fs, prefix)
+    if len(pts) < 2:
+        return [], w, h, prefix
+    d = np.diff(pts, axis=0)
+    lengths = np.hypot(d[:, 0], d[:, 1])
+    order = [i for i in np.argsort(-lengths, kind="stable") if lengths[i] > 1e-9][:_MAX_SEGMENTS]
+    longest = lengths[order[0]] if order else 0.0
+    out = []
+    for rank, i in enumerate(order):
+        L = float(lengths[i])
+        (x0, y0), (dx, dy) = pts[i], d[i]
+        ux, uy = dx / L, dy / L
+        ang = upright_angle(dx, dy)
+        a = math.radians(ang)
+        nx, ny = -math.sin(a), math.cos(a)      # box's "down" direction
+        off = h / 2.0 + spec.clearance
+        free = L - w
+        fracs = _ALONG if free > 0 else (0.5,)
+        overhang = max(0.0, -free) / w
+        for s in fracs:
+            t = (w / 2.0 + s * free) if free > 0 else L / 2.0
+            px, py = x0 + ux * t, y0 + uy * t
+            for side, side_pen in ((-1.0, 0.0), (1.0, 0.15)):
+                cx, cy = px + side * off * nx, py + side * off * ny
+                score = (0.6 * rank + (1.0 - L / longest) + 0.8 * abs(s - 0.5)
+                         + side_pen + 3.0 * overhang + VERTICAL_PENALTY * abs(math.sin(a)))
+                out.append((cx, cy, ang, score))
+    return out, w, h, prefix
+
+
+class _Field:
+    """Placed labels, leaders and symbols: the hard obstacles."""
+
+    def __init__(self, obstacles, bounds, lines):
+        self.fixed = [g for g in obstacles]
+        self.placed: list = []        # label boxes
+        self.leaders: list = []       # leader lines, slightly widened
+        self.bounds = box(*bounds) if bounds is not None else None
+        self.lines = list(lines)
+        self.line_tree = STRtree(self.lines) if self.lines else None
+
+    def tree(self, leaders: bool = True):
+        geoms = self.fixed + self.placed + (self.leaders if leaders else [])
+        return (STRtree(geoms), geoms) if geoms else (None, geoms)
+
+    def evaluate(self, polys):
+        """Hard collision count and soft route-crossing count per polygon."""
+        n = len(polys)
+        hard = np.zeros(n, dtype=int)
+        soft = np.zeros(n, dtype=int)
+        if n == 0:
+            return hard, soft
+        arr = np.array(polys, dtype=object)
+        tree, geoms = self.tree()
+        if tree is not None:
+            pairs = tree.query(arr, predicate="intersects")
+            np.add.at(hard, pairs[0], 1)
+        if self.bounds is not None:
+            hard += ~shapely.contains(self.bounds, arr)
+        if self.line_tree is not None:
+            pairs = self.line_tree.query(arr, predicate="intersects")
+            np.add.at(soft, pairs[0], 1)
+        return hard, soft
+
+
+def _choose(field: _Field, cands, w, h):
+    if not cands:
+        return None
+    polys = [label_polygon(cx, cy, w, h, a) for cx, cy, a, _ in cands]
+    hard, soft = field.evaluate(polys)
+    score = np.array([c[3] for c in cands]) + 1.5 * soft
+    free = np.nonzero(hard == 0)[0]
+    if len(free):
+        best = free[np.lexsort((free, score[free]))[0]]
+        return int(best), polys, hard
+    return None, polys, hard
+
+
+def _leader_ring(anchor, w, h, ring, step=LEADER_STEP, directions=16):
+    """Horizontal label positions on one ring round an anchor point."""
+    ax, ay = anchor
+    r = ring * step + max(w, h) / 2.0
+    out = []
+    for j in range(directions):
+        th = 2.0 * math.pi * j / directions
+        out.append((ax + r * math.cos(th), ay + r * math.sin(th), 0.0, 0.05 * r))
+    return out
+
+
+def _nearest_on_box(poly: Polygon, x, y):
+    p = shapely.ops.nearest_points(poly.exterior, shapely.Point(x, y))[0]
+    return (p.x, p.y)
+
+
+def place_labels(specs, *, obstacles=(), bounds=None, lines=()) -> list[Placement]:
+    """Place labels one after the other, each clear of what came before.
+
+    Parameters
+    ----------
+    specs : sequence of LabelSpec
+        In order of importance (the first gets the best place).
+    obstacles : sequence of shapely geometries
+        What no label may touch (plan symbols, fixed texts). [mm]
+    bounds : (x0, y0, x1, y1), optional
+        Every label must lie inside this box. [mm]
+    lines : sequence of shapely geometries
+        The routes: labels prefer not to cross them (soft). [mm]
+
+    Returns
+    -------
+    list of Placement
+        In the order of ``specs``.
+    """
+    field = _Field(obstacles, bounds, lines)
+    placed: list[Placement] = []
+    for spec in specs:
+        result = None
+        fonts = [spec.font_size]
+        smaller = max(MIN_FONT, spec.font_size * SMALLER)
+        if smaller < spec.font_size - 1e-9:
+            fonts.append(smaller)
+        first = None
+        for fs in fonts:
+            cands, w, h, prefix = _along_candidates(spec, fs)
+            got = _choose(field, cands, w, h)
+            if got is None:
+                continue
+            idx, polys, hard = got
+            if first is None and cands:
+                first = (cands, polys, hard, w, h, fs, prefix)
+            if idx is not None:
+                cx, cy, a, _ = cands[idx]
+                result = Placement(spec.key, spec.text, cx, cy, a, w, h, fs, prefix)
+                field.placed.append(polys[idx])
+                break
+        if result is None:
+            result = _place_with_leader(field, spec, fonts[-1])
+        if result is None:
+            result = _place_with_leader(field, spec, fonts[-1], strict=False)
+        if result is None and first is not None:
+            cands, polys, hard, w, h, fs, prefix = first
+            score = np.array([c[3] for c in cands]) + 10.0 * hard
+            i = int(np.lexsort((np.arange(len(cands)), score))[0])
+            cx, cy, a, _ = cands[i]
+            result = Placement(spec.key, spec.text, cx, cy, a, w, h, fs, prefix,
+                               collisions=int(hard[i]))
+            field.placed.append(polys[i])
+        if result is None:      # a route of one point: nothing to label
+            continue
+        placed.append(result)
+    return placed
+
+
+def _anchors(pts: np.ndarray) -> list[tuple[float, float]]:
+    """Points on the route a leader may start from: along its longest segments."""
+    d = np.diff(pts, axis=0)
+    lengths = np.hypot(d[:, 0], d[:, 1])
+    order = [i for i in np.argsort(-lengths, kind="stable") if lengths[i] > 1e-9][:_MAX_SEGMENTS]
+    out = []
+    for i in order:
+        for s in (0.5, 0.25, 0.75, 0.1, 0.9):
+            out.append((float(pts[i, 0] + d[i, 0] * s), float(pts[i, 1] + d[i, 1] * s)))
+    return out
+
+
+def _place_with_leader(field: _Field, spec: LabelSpec, fs: float, strict: bool = True):
+    """A horizontal label near the route, joined to it by a leader line.
+
+    Label positions lie on rings round points of the route's longest
+    segments, nearest ring first.  The box must be free; with ``strict`` the
+    leader must not run through a label or symbol either (it may cross other
+    leaders); without, the leader crossing fewest labels is taken.
+    """
+    pts = np.asarray(spec.route, dtype=float)
+    if len(pts) < 2:
+        return None
+    prefix = spec.prefix * fs / spec.font_size
+    w, h = _box_size(spec, fs, prefix)
+    tree, _ = field.tree(leaders=False)
+    anchors_all = _anchors(pts)
+    for ring in range(1, LEADER_RINGS + 1):
+        cands, anchors = [], []
+        for rank, anchor in enumerate(anchors_all):
+            for c in _leader_ring(anchor, w, h, ring):
+                cands.append((c[0], c[1], c[2], c[3] + 0.1 * rank))
+                anchors.append(anchor)
+        polys = [label_polygon(cx, cy, w, h, 0.0) for cx, cy, _, _ in cands]
+        hard, soft = field.evaluate(polys)
+        ok = np.nonzero(hard == 0)[0]
+        if not len(ok):
+            continue
+        ends = [_nearest_on_box(polys[k], *anchors[k]) for k in ok]
+        leaders = [LineString([anchors[k], e]) for k, e in zip(ok, ends)]
+        crossings = np.zeros(len(ok), dtype=int)
+        if tree is not None:
+            pairs = tree.query(np.array(leaders, dtype=object), predicate="crosses")
+            np.add.at(crossings, pairs[0], 1)
+        score = np.array([cands[k][3] for k in ok]) + 1.5 * soft[ok]
+        if strict:
+            free = np.nonzero(crossings == 0)[0]
+            if not len(free):
+                continue
+        else:
+            free = np.arange(len(ok))
+            score = score + 5.0 * crossings
+        j = int(free[np.lexsort((free, score[free]))[0]])
+        k = int(ok[j])
+        cx, cy, _, _ = cands[k]
+        field.placed.append(polys[k])
+        field.leaders.append(leaders[j].buffer(0.2))
+        return Placement(spec.key, spec.text, cx, cy, 0.0, w, h, fs, prefix,
+                         leader=(anchors[k], ends[j]))
+    return None
+
+
+def count_overlaps(polygons, obstacles=(), *, min_area: float = 1e-6) -> int:
+    """Number of pairs of label boxes that overlap, plus label/obstacle pairs.
+
+    Two shapes overlap when their intersection has an area above
+    ``min_area`` (mm²); boxes that merely touch do not count.
+    """
+    polys = list(polygons)
+    n = 0
+    for i in range(len(polys)):
+        for j in range(i + 1, len(polys)):
+            if polys[i].intersection(polys[j]).area > min_area:
+                n += 1
+        for ob in obstacles:
+            if polys[i].intersection(ob).area > min_area:
+                n += 1
+    return n

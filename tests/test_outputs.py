@@ -61,3 +61,12 @@ def test_exact_decimals_stay_put():
     assert safe_round("zs_ohm", 1.36562) == 1.3657
     assert safe_round("zs_max_ohm", 1.365625) == 1.3656
     assert safe_round("margin", float("-inf")) is None
+
+
+def test_outputs_are_ordinary_readable_files(tmp_path):
+    old = os.umask(0o022)
+    try:
+        out = write_atomic(tmp_path / "plan.svg", "<svg/>")
+    finally:
+        os.umask(old)
+    assert (out.stat().st_mode & 0o777) == 0o644   # not the 0600 of a temporary file

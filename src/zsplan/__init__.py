@@ -15,18 +15,38 @@ CAUTION = (
 )
 
 
-def __getattr__(name):
-    # the public API, imported on first use so that `import zsplan` stays light
-    if name == "check":
-        from .check import check
-        return check
-    if name == "load_plan":
-        from .loader import load_plan
-        return load_plan
-    if name in ("PlanError", "ZsplanError"):
-        from . import errors
-        return getattr(errors, name)
-    raise AttributeError(f"module 'zsplan' has no attribute {name!r}")
+import sys as _sys
+import types as _types
 
+
+class _CallableModule(_types.ModuleType):
+    """The submodule ``zsplan.check``, callable as the function of its name.
+
+    Importing a submodule sets it as an attribute of the package, so once
+    anything has imported ``zsplan.check`` (the command line does), the name
+    ``zsplan.check`` is the module, not the function.  Calling the module
+    calls its function, so ``zsplan.check(path)`` works either way.
+    """
+
+    def __call__(self, *args, **kwargs):
+        return getattr(self, self.__name__.rpartition(".")[2])(*args, **kwargs)
+
+
+class _Package(_types.ModuleType):
+    def __setattr__(self, name, value):
+        if (name == "check" and isinstance(value, _types.ModuleType)
+                and value.__name__ == f"{__name__}.{name}"):
+            value.__class__ = _CallableModule
+        super().__setattr__(name, value)
+
+
+_sys.modules[__name__].__class__ = _Package
+
+
+# The public API.  Imported eagerly: a lazy attribute named like its own
+# submodule would be replaced by the module on first import.
+from .check import check  # noqa: E402
+from .errors import PlanError, ZsplanError  # noqa: E402
+from .loader import load_plan  # noqa: E402
 
 __all__ = ["check", "load_plan", "PlanError", "ZsplanError", "CAUTION", "__version__"]

@@ -71,6 +71,9 @@ class Cable:
     temp_rating_c: float = 70.0
     cpc_with_line: bool = True
     insulation: str = "thermoplastic"   # thermoplastic | thermosetting
+    # cable construction for current ratings (zsplan.capacity):
+    # "twin-and-cpc" (flat twin and cpc, BS 7671 Table 4D5) | "single-core" (Table 4D1A)
+    construction: str = "twin-and-cpc"
 
     @property
     def label(self) -> str:
@@ -95,6 +98,12 @@ class SubMain:
     length_m: float
     device: Device
     load_a: float | None = None
+    # additions for issue 6 (voltage drop, current rating); defaults as for circuits
+    method: str = "C"                   # reference installation method (BS 7671 Appendix 4)
+    phases: int = 1                     # 1 or 3 (balanced)
+    ambient_c: float = 30.0
+    rcd_a: float | None = None          # IΔn of an RCD ahead of the sub-main (TT: it gives fault protection)
+    rcd_kind: str = "selective"         # "general" | "selective" (time-delayed, type S)
 
 
 @dataclass(frozen=True)
@@ -126,6 +135,12 @@ class Circuit:
     ceiling_m: float = 2.4
     test_temperature_c: float = 20.0
     where: Where = Where()
+    # additions for issue 6 (voltage drop, RCDs, current rating)
+    method: str = "C"                   # reference installation method (BS 7671 Appendix 4)
+    insulation_m: float = 0.0           # length totally surrounded by thermal insulation [m]
+    phases: int = 1                     # 1 or 3 (balanced three-phase load)
+    rcd_fault_protection: bool | None = None   # None: the RCD gives fault protection in TT only
+    rcd_kind: str = "general"           # "general" (non-delayed) | "selective" (time-delayed, type S)
 
     @property
     def key(self) -> tuple[str, str]:
@@ -150,6 +165,11 @@ class Settings:
     test_limit: str = "rule-of-0.8"     # "rule-of-0.8" | "temperature-ratio"
     vdrop_lighting_pct: float = 3.0
     vdrop_other_pct: float = 5.0
+    # additions for issue 6 (zsplan.vdrop, zsplan.grouping)
+    vdrop_load: str = "concentrated"    # "concentrated" | "uniform" | "outlets"
+    group_distance_m: float = 0.1       # routes closer than this run together
+    group_min_length_m: float = 0.5     # ... for at least this length
+    grouping_arrangement: str = "bunched"   # BS 7671 Table 4C1 row: "bunched" | "single-layer"
 
 
 @dataclass(frozen=True)

@@ -22,14 +22,16 @@ STATUSES = ("pass", "tight", "fail")
 
 #: Fields rounded up for display (larger is worse).
 ROUND_UP = {"r1r2_ohm", "r1r2_test_ohm", "zs_ohm", "disconnect_s", "vdrop_pct",
-            "cpc_min_mm2", "length_m"}
+            "cpc_min_mm2", "length_m", "ib_a", "iz_required_a", "i2t_a2s", "rcd_touch_v",
+            "board_vdrop_pct", "own_vdrop_pct", "vdrop_v"}
 #: Fields rounded down for display (smaller is worse).
 ROUND_DOWN = {"zs_max_ohm", "zs_test_max_ohm", "fault_current_a", "margin",
-              "disconnect_limit_s", "vdrop_limit_pct"}
+              "disconnect_limit_s", "vdrop_limit_pct", "iz_a", "k", "device_zs_max_ohm"}
 
 _DECIMALS = {"length_m": 2, "fault_current_a": 1, "margin": 3, "vdrop_pct": 2,
              "vdrop_limit_pct": 2, "disconnect_s": 3, "disconnect_limit_s": 3,
-             "cpc_min_mm2": 2}
+             "cpc_min_mm2": 2, "ib_a": 2, "iz_a": 2, "iz_required_a": 2, "i2t_a2s": 0,
+             "rcd_touch_v": 2, "board_vdrop_pct": 2, "own_vdrop_pct": 2, "vdrop_v": 2, "k": 1}
 
 
 def safe_round(name: str, value: float, decimals: int | None = None):
@@ -66,6 +68,10 @@ class Results:
         Per circuit: check name -> "pass" | "fail".
     messages : list of list of str
         Per circuit: explanations (why a check failed, warnings).
+    submains : dict
+        From :func:`zsplan.check.submain_results`: ``boards`` (sub-board
+        refs), per-sub-main arrays (``status`` and the engine's fields),
+        ``checks``, ``messages``, ``board_vdrop_pct``.
     """
 
     plan: Plan
@@ -75,6 +81,7 @@ class Results:
     checks: list[dict[str, str]]
     messages: list[list[str]]
     warnings: list[str] = field(default_factory=list)
+    submains: dict = field(default_factory=dict)
 
     @property
     def status(self) -> np.ndarray:
@@ -86,7 +93,9 @@ class Results:
 
     @property
     def any_fail(self) -> bool:
-        return bool(np.any(self.status == "fail"))
+        """True where any circuit or any sub-main fails."""
+        subs = self.submains.get("status", np.zeros(0))
+        return bool(np.any(self.status == "fail") or np.any(subs == "fail"))
 
     def circuit_record(self, i: int) -> dict:
         """The JSON record of circuit ``i`` (contract fields, safely rounded)."""
@@ -105,6 +114,13 @@ class Results:
         rec["cable"] = c.cable.label
         rec["ze_ohm"] = safe_round("zs_ohm", float(a["board_ze_ohm"][i]))
         rec["worst_point"] = self.lengths[i].worst_point
+        for name in ("board_vdrop_pct", "ib_a", "cpc_min_mm2", "k", "iz_a", "iz_required_a"):
+            rec[name] = safe_round(name, float(a[name][i])) if name in a else None
+        if "group_size" in a:
+            rec["group_size"] = int(a["group_size"][i])
+            rec["cg"] = float(a["cg"][i])
+        if "disconnection_by" in a:
+            rec["disconnection_by"] = str(a["disconnection_by"][i])
         pts = self.points
         sel = np.nonzero(pts["circuit"] == i)[0]
         rec["points"] = [
@@ -115,8 +131,31 @@ class Results:
             for k in sel]
         return rec
 
+    def submain_record(self, i: int) -> dict:
+        """The JSON record of sub-main ``i`` (an addition to the version-1 contract)."""
+        s = self.submains
+        rec = {"board": s["boards"][i], "fed_from": s["fed_from"][i], "status": str(s["status"][i])}
+        for name in ("length_m", "r1r2_ohm", "zs_ohm", "zs_max_ohm", "fault_current_a", "disconnect_s",
+                     "disconnect_limit_s", "margin", "own_vdrop_pct", "vdrop_pct", "vdrop_limit_pct",
+                     "ib_a", "cpc_min_mm2", "iz_a", "iz_required_a"):
+            rec[name] = safe_round(name, float(s[name][i]))
+        rec["ze_ohm"] = safe_round("zs_ohm", float(s["board_ze_ohm"][i]))
+        rec["checks"] = dict(s["checks"][i])
+        rec["messages"] = list(s["messages"][i])
+        rec["device"] = s["devices"][i]
+        rec["cable"] = s["cables"][i]
+        if "disconnection_by" in s:
+            rec["disconnection_by"] = str(s["disconnection_by"][i])
+        return rec
+
     def to_dict(self) -> dict:
-        """The results document of the version-1 contract."""
+        """The results document of the version-1 contract.
+
+        Addition: ``submains``, one record per board fed by a sub-main (the
+        sub-main checked as a distribution circuit), in order from the origin.
+        """
+        subs = [self.submain_record(i) for i in range(len(self.submains.get("boards", ())))]
         return {"zsplan": 1, "plan": self.plan.path,
                 "circuits": [self.circuit_record(i) for i in range(len(self.plan.circuits))],
+                "submains": subs,
                 "summary": self.summary()}

@@ -355,13 +355,15 @@ def _unambiguous(c):
 
 
 def _no_shorter(before, after):
-    assert after.route_m >= before.route_m
-    assert after.worst_m >= before.worst_m
-    assert after.total_m >= before.total_m
+    # 1 nm of slack for floating-point noise (9.199999999999998 against 9.2 m)
+    tol = 1e-9
+    assert after.route_m >= before.route_m - tol
+    assert after.worst_m >= before.worst_m - tol
+    assert after.total_m >= before.total_m - tol
     new = points(after)
     for p in before.points:
         if p.name in new:
-            assert new[p.name].cable_m >= p.cable_m
+            assert new[p.name].cable_m >= p.cable_m - tol
 
 
 @settings(max_examples=150, deadline=None)

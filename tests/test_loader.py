@@ -29,6 +29,7 @@ PLANS = Path(__file__).parent / "data" / "plans"
 def no_device_data(monkeypatch):
     """Isolate the loader from the device tables (tests below opt back in)."""
     monkeypatch.setattr(loader, "_device_checker", lambda: None)
+    monkeypatch.setattr(loader, "_conductor_checker", lambda: None)
 
 
 # --- helpers -------------------------------------------------------------------

@@ -53,6 +53,7 @@ import numpy as np
 from . import adiabatic, capacity, grouping, rcd, vdrop
 from .boards import board_levels, board_ze
 from .disconnection import required_time
+from .guards import plan_warnings
 from .geometry import DEFAULT_TOLERANCE_M, circuit_lengths
 from .loop import evaluate, margin as loop_margin, test_zs_limit
 from .model import Plan
@@ -130,7 +131,7 @@ def check(plan: Union[Plan, str, os.PathLike], *, tolerance_m: float = DEFAULT_T
         empty = {k: np.zeros(0) for k in ("length_m", "zs_ohm", "margin")}
         return Results(plan, [], {**empty, "status": np.zeros(0, dtype="<U5")},
                        {**empty, "circuit": np.zeros(0, int), "name": np.zeros(0, dtype=object)}, [], [],
-                       submains=subs)
+                       submains=subs, warnings=plan_warnings(plan, []))
 
     inp = circuit_inputs(plan)
     curves, idx = CurveSet.from_devices(c.device for c in plan.circuits)
@@ -170,7 +171,8 @@ def check(plan: Union[Plan, str, os.PathLike], *, tolerance_m: float = DEFAULT_T
     status, checks, messages = _verdicts(plan, circ, inp)
     _note_failing_feeds(plan, subs, messages)
     circ["status"] = status
-    return Results(plan, lengths, circ, pts, checks, messages, submains=subs)
+    return Results(plan, lengths, circ, pts, checks, messages, submains=subs,
+                   warnings=plan_warnings(plan, lengths))
 
 
 # -- the steps on circuits ----------------------------------------------------

@@ -269,7 +269,8 @@ def cmd_schedule(args, progress) -> int:
     progress.clear()
     _warn(results)
     if args.output:
-        write_schedule(results, args.output)
+        inputs = [results.plan.path, results.plan.drawing.floorplan]
+        write_schedule(results, args.output, inputs=tuple(i for i in inputs if i))
         print(f"wrote {args.output}", file=sys.stderr)
     else:
         _out_text(to_markdown(results))

@@ -30,7 +30,9 @@ from __future__ import annotations
 
 import difflib
 import math
+import os
 import re
+import stat
 from pathlib import Path
 
 import yaml
@@ -45,10 +47,51 @@ from zsplan.model import (DEVICE_TYPES, EARTHING, MATERIALS, RUNS, TOPOLOGIES,
 
 __all__ = ["load_plan", "load_plan_text", "FORMAT_VERSION", "CURVES",
            "FUSE_STANDARDS", "INSULATIONS", "OUTLET_KINDS", "ALPHA_METHODS",
-           "TEST_LIMIT_METHODS"]
+           "TEST_LIMIT_METHODS", "MAX_PLAN_BYTES", "LIMITS", "MAX_COORDINATE_M"]
 
 #: The plan format version this loader reads.
 FORMAT_VERSION = 1
+
+# --- bounds on the input -------------------------------------------------------
+# These are not judgements of good design (zsplan.guards warns about values
+# outside physical sense); they stop absurd or hostile input at the door, far
+# beyond any real installation, so that it never reaches the engine.
+
+#: Largest plan file read, in bytes: a building of 50 000 circuits takes about
+#: 33 MB of YAML (0.65 kB a circuit) and about a gigabyte of memory to load; a
+#: larger file is refused before it is read.
+MAX_PLAN_BYTES = 40_000_000
+#: Largest magnitude of a plan coordinate. [m]  Ten times the Earth's
+#: circumference (about 4.0e7 m), so map coordinates of any projected
+#: reference system fit.
+MAX_COORDINATE_M = 1e8
+#: kind -> largest magnitude accepted, in the kind's internal unit
+LIMITS = {
+    "length": 100_000.0,        # m: 100 km
+    "area": 10_000.0,           # mm2
+    "impedance": 1_000_000.0,   # ohm
+    "current": 1_000_000.0,     # A
+    "voltage": 1_000.0,         # V: BS 7671 Part 2, low voltage is at most 1000 V a.c.  # from memory
+    "temperature": 1_000.0,     # degC
+    "percent": 1_000.0,         # %
+    "time": 1_000_000.0,        # s
+}
+_UNIT_SHOWN = {"length": "m", "area": "mm2", "impedance": "ohm", "current": "A",
+               "voltage": "V", "temperature": "degC", "percent": "%", "time": "s"}
+#: U0 must exceed this: BS 7671:2018 Table 41.1 gives disconnection times for
+#: 50 V < U0 only (extra-low voltage is at most 50 V a.c., BS 7671 Part 2). [V]
+MIN_U0_V = 50.0
+#: Aliases (``*name``) may repeat parts of a plan, but a document whose
+#: aliases expand to more values than this, and to more than
+#: ``_MAX_EXPANSION`` times the values written, is refused (the YAML form of
+#: an entity bomb).
+_MAX_EXPANDED_NODES = 200_000
+_MAX_EXPANSION = 10
+#: Longest text shown back in a message (values, keys, refs). [characters]
+_SHOW_CHARS = 60
+#: Longest ref (board, circuit, device family) and name accepted. [characters]
+_MAX_REF = 100
+_MAX_NAME = 500
 
 CURVES = ("B", "C", "D")
 FUSE_STANDARDS = ("bs88-2", "bs88-3", "bs3036", "bs1362")
@@ -119,14 +162,20 @@ _SCALE = re.compile(r"^\s*(\d+(?:\.\d*)?|\.\d+)\s*:\s*(\d+(?:\.\d*)?|\.\d+)\s*$"
 
 # --- public entry points -----------------------------------------------------
 
-def load_plan(path) -> Plan:
+def load_plan(path, *, max_bytes: int = MAX_PLAN_BYTES) -> Plan:
     """Read and validate the plan file at ``path``.
+
+    The file must be a regular file of at most ``max_bytes`` bytes: its size
+    is checked before it is read and again while reading (so a special file
+    such as ``/dev/zero``, or a file that grows, is bounded too).
 
     Parameters
     ----------
     path : str or os.PathLike
         The plan file (YAML, format version 1).  A floor plan named in it is
         looked for relative to the plan file's folder.
+    max_bytes : int, optional
+        Largest file accepted. [byte]
 
     Returns
     -------
@@ -138,20 +187,79 @@ def load_plan(path) -> Plan:
         Listing every problem found, each naming the file, the key path, the
         line and what was expected.
     """
-    p = Path(path)
     try:
-        text = p.read_text(encoding="utf-8-sig")
+        name = os.fspath(path)
+    except TypeError:
+        raise PlanError(Problem(_shown_name(path), "expected the path of a plan file (YAML)")) from None
+    if isinstance(name, bytes):
+        name = os.fsdecode(name)
+    p = Path(name)
+    text = _read_text(name, max_bytes)
+    return load_plan_text(text, file=name, base_dir=p.parent)
+
+
+def _shown_name(path) -> str:
+    return _shown(str(path))[1:-1] if isinstance(path, str) else _shown(repr(path))
+
+
+def _read_bounded(name: str, size: int, max_bytes: int) -> bytes:
+    """The file's bytes, at most ``max_bytes + 1`` of them.
+
+    Reads what ``stat`` reported, then on in 1 MB pieces only if the file
+    turns out longer (it grew, or it is a device), so memory follows the
+    file's size, not the limit.
+    """
+    with open(name, "rb") as fh:
+        parts = [fh.read(min(size, max_bytes) + 1)]
+        got = len(parts[0])
+        while got > size and got <= max_bytes:
+            piece = fh.read(min(1 << 20, max_bytes + 1 - got))
+            if not piece:
+                break
+            parts.append(piece)
+            got += len(piece)
+    return b"".join(parts)
+
+
+def _read_text(name: str, max_bytes: int) -> str:
+    """The text of a plan file, bounded in size; every failure is a PlanError."""
+    shown = name if (len(name) <= 4096 and name.isprintable()) else _shown_name(name)
+
+    def fail(message, line=None):
+        return PlanError(Problem(shown, message, "", line))
+
+    expected = "expected a plan file (YAML)"
+    try:
+        st = os.stat(name)
     except FileNotFoundError:
-        raise PlanError(Problem(str(path), "no such file; expected a plan file (YAML)")) from None
-    except IsADirectoryError:
-        raise PlanError(Problem(str(path), "is a folder; expected a plan file (YAML)")) from None
-    except UnicodeDecodeError as exc:
-        raise PlanError(Problem(
-            str(path), f"cannot be read as UTF-8 text (byte {exc.start}); "
-            "expected a plan file (YAML) saved as UTF-8")) from None
+        raise fail(f"no such file; {expected}") from None
+    except (OSError, ValueError) as exc:    # ValueError: a NUL in the name
+        why = getattr(exc, "strerror", None) or "not a usable file name"
+        raise fail(f"cannot be read ({why}); {expected}") from None
+    if stat.S_ISDIR(st.st_mode):
+        raise fail(f"is a folder; {expected}")
+    if not stat.S_ISREG(st.st_mode):
+        raise fail(f"is not a regular file (a device, pipe or socket); {expected}")
+    too_big = (f"larger than the {max_bytes:,}-byte limit for a plan file; expected a plan "
+               "file (YAML) of a sensible size")
+    if st.st_size > max_bytes:
+        raise fail(f"the file is {st.st_size:,} bytes, {too_big}")
+    try:
+        data = _read_bounded(name, st.st_size, max_bytes)
     except OSError as exc:
-        raise PlanError(Problem(str(path), f"cannot be read ({exc.strerror})")) from None
-    return load_plan_text(text, file=str(path), base_dir=p.parent)
+        raise fail(f"cannot be read ({exc.strerror or exc}); {expected}") from None
+    if len(data) > max_bytes:
+        raise fail(f"the file is over {max_bytes:,} bytes, {too_big}")
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise fail("is saved as UTF-16 text; expected a plan file (YAML) saved as UTF-8", 1)
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = data.count(b"\n", 0, exc.start) + 1
+        column = exc.start - (data.rfind(b"\n", 0, exc.start) + 1) + 1
+        what = "a binary file" if b"\0" in data[:8192] else "text in another encoding"
+        raise fail(f"byte 0x{data[exc.start]:02x} at column {column} is not UTF-8 (this looks "
+                   f"like {what}); expected a plan file (YAML) saved as UTF-8", line) from None
 
 
 def load_plan_text(text: str, *, file: str = "<string>", base_dir=".") -> Plan:
@@ -176,14 +284,16 @@ def load_plan_text(text: str, *, file: str = "<string>", base_dir=".") -> Plan:
     zsplan.errors.PlanError
         Listing every problem found.
     """
+    if not isinstance(text, str):
+        raise TypeError(f"load_plan_text takes the plan as str, got {type(text).__name__}")
     with gc_paused():
         root = _compose(text, file)
         try:
+            if "&" in text and "*" in text:     # aliases need an anchor: else nothing to count
+                _check_expansion(root, file)
             return _Reader(file, base_dir).plan(root)
         finally:
             del root   # free the node tree before the collector runs again
-
-
 
 
 # --- YAML ----------------------------------------------------------------------
@@ -192,11 +302,28 @@ def _compose(text: str, file: str):
     """YAML text -> root node; syntax errors -> PlanError with the line."""
     try:
         root = yaml.compose(text, Loader=_LOADER)
+    except yaml.reader.ReaderError as exc:   # a character YAML does not allow
+        line = text.count("\n", 0, exc.position) + 1 if isinstance(exc.position, int) else None
+        column = (exc.position - text.rfind("\n", 0, exc.position)) if line else None
+        char = exc.character if isinstance(exc.character, int) else ord(exc.character or "?")
+        kind = "a control character" if char < 0x20 or 0x7f <= char < 0xa0 else "a character"
+        raise PlanError(Problem(
+            file, f"YAML error: {kind} (U+{char:04X}) at column {column}, which YAML does "
+            "not allow; expected plain text (remove it, or write it inside a quoted "
+            "string as an escape such as \\x07)", "", line)) from None
+    except UnicodeEncodeError as exc:        # lone surrogates in a str given directly
+        line = text.count("\n", 0, exc.start) + 1
+        raise PlanError(Problem(
+            file, f"the text holds a character that is not valid Unicode (U+"
+            f"{ord(text[exc.start]):04X}); expected plain UTF-8 text", "", line)) from None
+    except RecursionError:
+        raise PlanError(Problem(file, "YAML error: values nested too deeply; expected a plan "
+                                "file (YAML)", "", None)) from None
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
-        msg = f"YAML syntax error: {exc.problem or exc.context}"
+        msg = f"YAML syntax error: {_one_line(exc.problem or exc.context)}"
         if exc.context and exc.problem:
-            msg += f" ({exc.context}"
+            msg += f" ({_one_line(exc.context)}"
             if exc.context_mark is not None:
                 msg += f" started on line {exc.context_mark.line + 1}"
             msg += ")"
@@ -205,15 +332,71 @@ def _compose(text: str, file: str):
             line = mark.line + 1
             msg += f", at column {mark.column + 1}"
         raise PlanError(Problem(file, msg, "", line)) from None
-    except yaml.YAMLError as exc:   # e.g. a control character in the text
+    except yaml.YAMLError as exc:
         pos = getattr(exc, "position", None)
         line = text.count("\n", 0, pos) + 1 if isinstance(pos, int) else None
-        raise PlanError(Problem(file, f"YAML error: {exc}", "", line)) from None
+        raise PlanError(Problem(file, f"YAML error: {_one_line(str(exc))}", "", line)) from None
     if root is None:
         raise PlanError(Problem(
             file, f"the plan is empty; expected a mapping starting with "
             f"'zsplan: {FORMAT_VERSION}'", "", 1))
     return root
+
+
+def _check_expansion(root, file: str) -> None:
+    """Refuse a document whose aliases multiply it out of bounds (a YAML bomb).
+
+    Counts, once per distinct node, the values the document stands for when
+    every alias is written out; the walk is iterative and linear in the
+    nodes written.
+    """
+    size: dict[int, int] = {}
+    open_: set[int] = set()
+    stack = [(root, False)]
+    while stack:
+        node, done = stack.pop()
+        nid = id(node)
+        if done:
+            open_.discard(nid)
+            if node.__class__ is ScalarNode:
+                size[nid] = 1
+            elif node.__class__ is SequenceNode:
+                size[nid] = 1 + sum(size.get(id(c), 1) for c in node.value)
+            else:
+                size[nid] = 1 + sum(size.get(id(k), 1) + size.get(id(v), 1) for k, v in node.value)
+            continue
+        if nid in size or nid in open_:
+            continue          # seen, or an alias of a node being counted (a cycle)
+        open_.add(nid)
+        stack.append((node, True))
+        if node.__class__ is SequenceNode:
+            stack.extend((c, False) for c in node.value)
+        elif node.__class__ is MappingNode:
+            for k, v in node.value:
+                stack.append((k, False))
+                stack.append((v, False))
+    total, written = size.get(id(root), 1), len(size)
+    if total > _MAX_EXPANDED_NODES and total > _MAX_EXPANSION * written:
+        raise PlanError(Problem(
+            file, f"the plan's YAML aliases (*name) stand for {total:,} values although "
+            f"only {written:,} are written; expected aliases that repeat small parts of "
+            "a plan (a device, a cable), not aliases of aliases (a YAML bomb)", "", 1))
+
+
+def _one_line(text) -> str:
+    """A message fragment on one line (line breaks and tabs shown as escapes)."""
+    text = str(text)
+    if text.isprintable():
+        return text
+    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in text)
+
+
+def _shown(text, limit: int = _SHOW_CHARS) -> str:
+    """``text`` quoted for a message: control characters escaped, long text cut."""
+    text = str(text)
+    if len(text) > limit:
+        text = text[:limit] + f"... ({len(text):,} characters)"
+    return repr(text)
 
 
 def _line(node) -> int | None:
@@ -224,14 +407,24 @@ def _join(path: str, key: str) -> str:
     return f"{path}.{key}" if path else key
 
 
+#: tags that YAML gives plain values by itself (a date typed by mistake reads as
+#: a timestamp); any other tag was written on purpose and is named in messages
+_PLAIN_TAGS = {"str", "int", "float", "bool", "null", "seq", "map", "merge", "timestamp"}
+
+
 def _describe(node) -> str:
+    tag = node.tag or ""
+    if tag.startswith("!") or (tag and not tag.startswith("tag:yaml.org,2002:")) or (
+            tag.startswith("tag:yaml.org,2002:") and tag[18:] not in _PLAIN_TAGS):
+        shown = "!!" + tag[18:] if tag.startswith("tag:yaml.org,2002:") else tag
+        return f"a value tagged {_shown(shown)} (zsplan reads plain YAML values only)"
     if node.__class__ is MappingNode:
         return "a mapping"
     if node.__class__ is SequenceNode:
         return "a list"
     if node.tag == _NULL:
         return "nothing"
-    return repr(node.value)
+    return _shown(node.value)
 
 
 def _a(word: str) -> str:
@@ -244,7 +437,8 @@ def _expect_text(kind: str) -> str:
 
 
 def _did_you_mean(word: str, choices) -> str:
-    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
+    close = (difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
+             if len(word) <= _SHOW_CHARS else [])
     if close:
         return f"did you mean '{close[0]}'?"
     return "expected one of: " + ", ".join(choices)
@@ -282,6 +476,7 @@ class _Reader:
         self._cables: dict = {}
         self._merge_cache: dict = {}
         self._check_device = _device_checker()
+        self._check_conductor = _conductor_checker()
         self._checked: dict[Device, str | None] = {}
         self._default_cable: dict = {}
         self._default_nodes: dict = {}
@@ -291,7 +486,7 @@ class _Reader:
 
     # -- reporting
     def add(self, message: str, path: str, node=None, line=None) -> None:
-        self.c.add(message, path, _line(node) if line is None else line)
+        self.c.add(_one_line(message), path, _line(node) if line is None else line)
 
     def missing(self, parent, path: str, key: str, what: str) -> None:
         self.add(f"missing required key '{key}' ({what})", _join(path, key), parent)
@@ -313,7 +508,7 @@ class _Reader:
             key = knode.value if knode.__class__ is ScalarNode else None
             if key in keys and knode.tag != _MERGE:
                 if key in out:
-                    self.add(f"key '{key}' appears twice in this mapping (first on "
+                    self.add(f"key {_shown(key)} appears twice in this mapping (first on "
                              f"line {_line(out[key])}); keep one", _join(path, key), knode)
                 else:
                     out[key] = vnode
@@ -323,8 +518,8 @@ class _Reader:
             elif key is None:
                 self.add(f"expected a key name, got {_describe(knode)}", path, knode)
             elif not key.startswith("x-"):
-                self.add(f"unknown key '{key}'; {_did_you_mean(key, keys)}",
-                         _join(path, key), knode)
+                self.add(f"unknown key {_shown(key)}; {_did_you_mean(key, keys)}",
+                         _join(path, _one_line(key[:_SHOW_CHARS])), knode)
         if merges:
             self._merge(merges, out, path, keys, what, _depth)
         return out
@@ -364,20 +559,25 @@ class _Reader:
                 return float(v)
             if v.isdigit() and (v[0] != "0" or len(v) == 1):
                 return float(v)
-        except ValueError:
+        except (ValueError, OverflowError):
             pass
+        if len(v) > 400:            # no number is written that long
+            return None
         try:
             if node.tag == _INT:
                 return float(self._yaml.construct_yaml_int(node))
             return float(self._yaml.construct_yaml_float(node))
-        except (ValueError, yaml.YAMLError):
+        except (ValueError, OverflowError, IndexError, yaml.YAMLError):
+            # an explicit !!int or !!float on text that is no number ('', '-', '0x')
             return None
 
-    def quantity(self, node, path: str, kind: str, rule: str | None = None):
+    def quantity(self, node, path: str, kind: str, rule: str | None = None,
+                 limit: float | None = None):
         """A quantity (number in the kind's unit, or text with a unit) -> float.
 
         ``rule``: ``"pos"`` (> 0), ``"nonneg"`` (>= 0), ``"abs"`` (above
-        absolute zero), or None.
+        absolute zero), or None.  ``limit``: the largest magnitude accepted
+        (default :data:`LIMITS` of the kind).
         """
         if node.__class__ is ScalarNode:
             tag = node.tag
@@ -390,7 +590,7 @@ class _Reader:
             elif tag == _FLOAT or tag == _INT:
                 x = self._number(node)
                 if x is None or not math.isfinite(x):
-                    self.add(f"expected a finite {kind}, got {node.value!r}", path, node)
+                    self.add(f"expected a finite {kind}, got {_shown(node.value)}", path, node)
                     return None
             else:
                 self.add(f"expected {_expect_text(kind)}, got {_describe(node)}",
@@ -401,17 +601,24 @@ class _Reader:
             return None
         if rule is not None:
             if rule == "pos" and not x > 0:
-                self.add(f"expected {_a(kind)} greater than zero, got {node.value!r}",
+                self.add(f"expected {_a(kind)} greater than zero, got {_shown(node.value)}",
                          path, node)
                 return None
             if rule == "nonneg" and not x >= 0:
-                self.add(f"expected {_a(kind)} of zero or more, got {node.value!r}",
+                self.add(f"expected {_a(kind)} of zero or more, got {_shown(node.value)}",
                          path, node)
                 return None
             if rule == "abs" and not x > -273.15:   # absolute zero, 0 K = -273.15 °C (SI)
                 self.add(f"expected a temperature above absolute zero, got "
-                         f"{node.value!r}", path, node)
+                         f"{_shown(node.value)}", path, node)
                 return None
+        limit = LIMITS[kind] if limit is None else limit
+        if not abs(x) <= limit:
+            unit = _UNIT_SHOWN[kind]
+            self.add(f"{_shown(node.value)} is beyond {limit:g} {unit} in size, the largest "
+                     f"{kind} zsplan accepts here; expected a real installation's value",
+                     path, node)
+            return None
         return x
 
     def plain(self, node, path: str, what: str, lo: float | None = None,
@@ -421,7 +628,7 @@ class _Reader:
         if node.__class__ is ScalarNode:
             if node.tag in (_INT, _FLOAT):
                 x = self._number(node)
-            elif node.tag == _STR:
+            elif node.tag == _STR and len(node.value) <= 400:
                 try:
                     x = float(node.value)
                 except ValueError:
@@ -437,9 +644,17 @@ class _Reader:
             return None
         return x
 
-    def text(self, node, path: str, what: str):
-        """Any non-empty scalar, as written (``ref: 03`` stays ``"03"``)."""
+    def text(self, node, path: str, what: str, max_chars: int | None = None):
+        """Any non-empty scalar, as written (``ref: 03`` stays ``"03"``).
+
+        ``max_chars``: the longest text accepted (refs and names are shown in
+        messages and on drawings).
+        """
         if node.__class__ is ScalarNode and node.tag != _NULL and node.value.strip():
+            if max_chars is not None and len(node.value) > max_chars:
+                self.add(f"expected {what} of at most {max_chars} characters, got "
+                         f"{_shown(node.value)}", path, node)
+                return None
             return node.value
         self.add(f"expected {what} (text), got {_describe(node)}", path, node)
         return None
@@ -456,32 +671,42 @@ class _Reader:
             hint = _did_you_mean(node.value, choices)
             if hint.startswith("did"):
                 hint = f"expected one of {', '.join(choices)}; {hint}"
-            self.add(f"unknown {what} '{node.value}'; {hint}", path, node)
+            self.add(f"unknown {what} {_shown(node.value)}; {hint}", path, node)
             return None
         self.add(f"expected {what}: one of {', '.join(choices)}, got {_describe(node)}",
                  path, node)
         return None
 
     def boolean(self, node, path: str, what: str):
-        if node.__class__ is ScalarNode and node.tag == _BOOL:
-            return self._yaml.construct_yaml_bool(node)
+        if (node.__class__ is ScalarNode and node.tag == _BOOL
+                and node.value.lower() in self._yaml.bool_values):
+            return self._yaml.bool_values[node.value.lower()]
         self.add(f"expected {what}: true or false, got {_describe(node)}", path, node)
         return None
 
     def point(self, node, path: str, what: str = "a point [x, y] in plan metres"):
-        """``[x, y]`` of numbers (metres) or length strings -> (x, y)."""
+        """``[x, y]`` of numbers (metres) or length strings -> (x, y).
+
+        Each coordinate within :data:`MAX_COORDINATE_M` of the origin.
+        """
         if node.__class__ is SequenceNode and len(node.value) == 2:
             a, b = node.value
-            if a.tag == _FLOAT or a.tag == _INT:
-                if b.tag == _FLOAT or b.tag == _INT:
-                    x, y = self._number(a), self._number(b)
-                    if x is not None and y is not None and math.isfinite(x + y):
-                        return (x, y)
-            x = self.quantity(a, f"{path}[0]", "length")
-            y = self.quantity(b, f"{path}[1]", "length")
-            if x is None or y is None:
-                return None
-            return (x, y)
+            x = y = None
+            if (a.tag == _FLOAT or a.tag == _INT) and (b.tag == _FLOAT or b.tag == _INT):
+                x, y = self._number(a), self._number(b)       # the common case, quickly
+                if x is not None and y is not None and abs(x) <= MAX_COORDINATE_M \
+                        and abs(y) <= MAX_COORDINATE_M:
+                    return (x, y)
+            if x is None or y is None or not math.isfinite(x + y):
+                x = self.quantity(a, f"{path}[0]", "length", limit=math.inf)
+                y = self.quantity(b, f"{path}[1]", "length", limit=math.inf)
+                if x is None or y is None:
+                    return None
+            if abs(x) <= MAX_COORDINATE_M and abs(y) <= MAX_COORDINATE_M:
+                return (x, y)
+            self.add(f"the point [{x:g}, {y:g}] lies beyond {MAX_COORDINATE_M:g} m from the "
+                     "origin; expected plan coordinates in metres of a real site", path, node)
+            return None
         self.add(f"expected {what}, got {_describe(node)}", path, node)
         return None
 
@@ -557,8 +782,20 @@ class _Reader:
             if knode.__class__ is ScalarNode and knode.value.startswith("x-"):
                 try:
                     extra[knode.value] = self._yaml.construct_document(vnode)
-                except yaml.YAMLError as exc:
-                    self.add(f"cannot read this value: {exc}", knode.value, vnode)
+                except (yaml.YAMLError, ValueError, TypeError, IndexError, KeyError,
+                        OverflowError, RecursionError) as exc:
+                    # the user's own key: YAML's constructors refuse its value
+                    # ('!!timestamp 2001-13-45', '!!int ""', an unhashable key)
+                    why = getattr(exc, "problem", None) or str(exc).split("\n")[0]
+                    self.add(f"cannot read this value ({_one_line(why)}); expected plain "
+                             "YAML values under a user's own x- key",
+                             _one_line(knode.value[:_SHOW_CHARS]), vnode)
+                finally:
+                    # the constructor keeps what it built; start afresh for the next key
+                    self._yaml.constructed_objects.clear()
+                    self._yaml.recursive_objects.clear()
+                    self._yaml.state_generators = []
+                    self._yaml.deep_construct = False
         if self._drawing_warnings:
             extra["warnings"] = tuple(self._drawing_warnings)
         self.c.raise_if_any()
@@ -590,6 +827,11 @@ class _Reader:
             self.missing(node, path, "earthing", "one of " + ", ".join(EARTHING))
         kw["u0_v"] = (self.quantity(m["u0"], "supply.u0", "voltage", "pos")
                       if "u0" in m else DEFAULT_U0_V)
+        if kw["u0_v"] is not None and kw["u0_v"] <= MIN_U0_V:
+            self.add(f"expected U0 above {MIN_U0_V:g} V: BS 7671 Table 41.1 sets disconnection "
+                     f"times for a.c. systems above extra-low voltage only; got "
+                     f"{_shown(m['u0'].value)}", "supply.u0", m["u0"])
+            kw["u0_v"] = None
         kw["cmin"] = (self.plain(m["cmin"], "supply.cmin", "the minimum voltage "
                                  "factor", 0.0, 1.0) if "cmin" in m else DEFAULT_CMIN)
         if "electrode" in m:
@@ -714,20 +956,36 @@ class _Reader:
         text = self.text(node, "drawing.floorplan", "the floor plan's file name")
         if text is None:
             return None
-        base = self.base_dir.resolve()
-        full = (base / text).resolve()
-        if not full.is_relative_to(base):
-            self.add(f"the floor plan {text!r} lies outside the plan file's folder "
-                     f"({base}); expected a file in that folder or below it",
-                     "drawing.floorplan", node)
+        where = "drawing.floorplan"
+        if "\0" in text or len(text) > 4096 or not text.isprintable():
+            self.add(f"expected the floor plan's file name, got {_shown(text)} (a name with "
+                     "control characters, or too long)", where, node)
             return None
-        if not full.is_file():
-            self.add(f"floor plan {text!r} not found (looked for {full}); expected an "
-                     "SVG file beside the plan file", "drawing.floorplan", node)
+        if re.match(r"^[A-Za-z][A-Za-z0-9+.-]*://", text):
+            self.add(f"the floor plan {_shown(text)} is a web address; expected a file in the "
+                     "plan file's folder (nothing is fetched)", where, node)
+            return None
+        try:
+            base = self.base_dir.resolve()
+            full = (base / text).resolve()
+            inside = full.is_relative_to(base)
+            is_file = inside and full.is_file()
+        except (OSError, ValueError, RuntimeError) as exc:   # too long, a symlink loop
+            self.add(f"the floor plan {_shown(text)} cannot be looked up "
+                     f"({_one_line(getattr(exc, 'strerror', None) or exc)}); expected an SVG "
+                     "file beside the plan file", where, node)
+            return None
+        if not inside:
+            self.add(f"the floor plan {_shown(text)} lies outside the plan file's folder "
+                     f"({base}); expected a file in that folder or below it", where, node)
+            return None
+        if not is_file:
+            what = "is a folder" if full.is_dir() else "not found"
+            self.add(f"floor plan {_shown(text)} {what} (looked for {full}); expected an "
+                     "SVG file beside the plan file", where, node)
             return None
         if full.suffix.lower() != ".svg":
-            self.add(f"expected an SVG file (.svg), got {text!r}", "drawing.floorplan",
-                     node)
+            self.add(f"expected an SVG file (.svg), got {_shown(text)}", where, node)
             return None
         return str(full)
 
@@ -794,9 +1052,9 @@ class _Reader:
                   "where": Where(self.file, path, _line(item))}
             b = {"kw": kw, "at": None, "m": m, "node": item}
             if "ref" in m:
-                ref = kw["ref"] = self.text(m["ref"], f"{path}.ref", "the board's ref")
+                ref = kw["ref"] = self.text(m["ref"], f"{path}.ref", "the board's ref", _MAX_REF)
                 if ref in seen:
-                    self.add(f"board ref '{ref}' is used twice (also {seen[ref]}); "
+                    self.add(f"board ref {_shown(ref)} is used twice (also {seen[ref]}); "
                              "expected each board's ref to be unique", f"{path}.ref",
                              m["ref"])
                 elif ref is not None:
@@ -828,11 +1086,11 @@ class _Reader:
                 self.missing(node, path, key, what)
         if "board" in m:
             kw["board"] = self.text(m["board"], f"{path}.board", "the upstream "
-                                    "board's ref")
+                                    "board's ref", _MAX_REF)
         if "cable" in m:
             fields = self.cable_fields(m["cable"], f"{path}.cable")
             if fields is not None:
-                kw["cable"] = self.make_cable(fields, f"{path}.cable", m["cable"])
+                kw["cable"] = self.make_cable(fields, f"{path}.cable", m["cable"], fields)
         if "length" in m:
             kw["length_m"] = self.quantity(m["length"], f"{path}.length", "length",
                                            "nonneg")
@@ -855,7 +1113,7 @@ class _Reader:
             path = b["kw"]["where"].path + ".fed_from.board"
             node = b["fed_board"]
             if sub.board == ref:
-                self.add(f"board '{ref}' cannot be fed from itself; expected the "
+                self.add(f"board {_shown(ref)} cannot be fed from itself; expected the "
                          "ref of the upstream board", path, node)
             elif sub.board not in refs:
                 self.add(f"fed_from names unknown board '{sub.board}'; "
@@ -908,10 +1166,10 @@ class _Reader:
             elif key == "device":
                 kw["device"] = self.device(n, f"{path}.device")
             else:
-                kw[key] = self.text(n, f"{path}.{key}", what)
+                kw[key] = self.text(n, f"{path}.{key}", what, _MAX_REF)
         n = m.get("name")
         if n is not None and n.tag != _NULL:
-            kw["name"] = self.text(n, f"{path}.name", "a name") or ""
+            kw["name"] = self.text(n, f"{path}.name", "a name", _MAX_NAME) or ""
         n = m.get("use")
         if n is not None:
             kw["use"] = self.choice(n, f"{path}.use", USES, "use")
@@ -930,7 +1188,7 @@ class _Reader:
         n = m.get("cable")
         if n is None:
             if self._default_cable:
-                kw["cable"] = self.make_cable(self._default_cable, f"{path}.cable", node)
+                kw["cable"] = self.make_cable(self._default_cable, f"{path}.cable", node, {})
             else:
                 self.missing(node, path, "cable", "its cable: line and cpc csa, such "
                              "as {line: 2.5 mm2, cpc: 1.5 mm2}")
@@ -938,7 +1196,7 @@ class _Reader:
             own = self.cable_fields(n, f"{path}.cable")
             if own is not None:
                 kw["cable"] = self.make_cable({**self._default_cable, **own},
-                                              f"{path}.cable", n)
+                                              f"{path}.cable", n, own)
         cable, ambient = kw["cable"], kw["ambient_c"]
         if cable is not None and ambient is not None and ambient >= cable.temp_rating_c:
             src, where = m.get("ambient"), f"{path}.ambient"
@@ -994,7 +1252,7 @@ class _Reader:
                              "as '0.45 m'")
             name = ""
             if "name" in m and m["name"].tag != _NULL:
-                name = self.text(m["name"], f"{p}.name", "a name") or ""
+                name = self.text(m["name"], f"{p}.name", "a name", _MAX_NAME) or ""
             kind = default_kind or "socket"
             if "kind" in m:
                 kind = self.choice(m["kind"], f"{p}.kind", OUTLET_KINDS, "outlet kind")
@@ -1012,13 +1270,13 @@ class _Reader:
             kw, m = c["kw"], c["m"]
             board, ref = kw["board"], kw["ref"]
             if board is not None and refs and board not in refs:
-                self.add(f"unknown board '{board}'; {_did_you_mean(board, known)}",
+                self.add(f"unknown board {_shown(board)}; {_did_you_mean(board, known)}",
                          _join(kw["where"].path, "board"), m["board"])
             if board is None or ref is None:
                 continue
             first = seen.get((board, ref))
             if first is not None:
-                self.add(f"circuit ref '{ref}' is used twice on board {board} (also "
+                self.add(f"circuit ref {_shown(ref)} is used twice on board {board} (also "
                          f"{first}); expected refs unique within a board",
                          _join(kw["where"].path, "ref"), m["ref"])
             else:
@@ -1046,7 +1304,7 @@ class _Reader:
             self.missing(node, path, "rating", "the rated current In, such as '32 A'")
         family = None
         if "family" in m:
-            family = self.text(m["family"], f"{path}.family", "a device family name")
+            family = self.text(m["family"], f"{path}.family", "a device family name", _MAX_REF)
         if dtype == "fuse":
             if "curve" in m:
                 self.add("'curve' applies to circuit-breakers (mcb, rcbo), not fuses; "
@@ -1128,8 +1386,12 @@ class _Reader:
             self._cable_cache[key] = f
         return f
 
-    def make_cable(self, fields: dict, path: str, node):
-        """Merged cable fields -> Cable, with the contract's defaults."""
+    def make_cable(self, fields: dict, path: str, node, own: dict | None = None):
+        """Merged cable fields -> Cable, with the contract's defaults.
+
+        Each conductor must be a size IEC 60228 lists for its material; a size
+        taken from ``defaults.cable`` (not in ``own``) is reported there, once.
+        """
         ok = True
         for k, key, what in (("line_mm2", "line", "line conductor csa, such as '2.5 mm2'"),
                              ("cpc_mm2", "cpc", "protective conductor csa, such as "
@@ -1142,6 +1404,8 @@ class _Reader:
             return None
         key = tuple(fields.items())
         cable = self._cables.get(key)
+        if cable is None and not self._conductors_known(fields, path, node, own):
+            return None
         if cable is None:
             temp = fields.get("temp_rating_c", 70.0)
             insulation = fields.get("insulation") or (
@@ -1150,6 +1414,28 @@ class _Reader:
                 fields["line_mm2"], fields["cpc_mm2"], fields.get("material", "copper"),
                 temp, fields.get("cpc_with_line", True), insulation)
         return cable
+
+    def _conductors_known(self, fields: dict, path: str, node, own) -> bool:
+        """Line and cpc sizes are tabulated (IEC 60228) for the material."""
+        checker = self._check_conductor
+        if checker is None:
+            return True
+        material = fields.get("material", "copper")
+        ok = True
+        for k, key in (("line_mm2", "line"), ("cpc_mm2", "cpc")):
+            msg = checker(fields[k], material)
+            if not msg:
+                continue
+            ok = False
+            if own is None or k in own or "material" in own:
+                self.add(f"{msg}; expected one of those sizes", f"{path}.{key}", node)
+            else:                        # inherited from defaults.cable: report it there once
+                where = f"defaults.cable.{key}"
+                if (where, material) not in self._reported:
+                    self._reported.add((where, material))
+                    self.add(f"{msg}; expected one of those sizes", where,
+                             self._default_nodes.get("cable", node))
+        return ok
 
     # -- the drawing
     def apply_drawing(self, drawing, boards, board_refs, circuits) -> None:
@@ -1169,7 +1455,7 @@ class _Reader:
         layer = drawing.routes_layer
 
         def problem(msg, where):
-            self.c.problems.append(Problem(svg, msg, where))
+            self.c.problems.append(Problem(svg, _one_line(msg), _one_line(where)))
 
         by_full = {}
         by_ref: dict[str, list] = {}
@@ -1188,13 +1474,13 @@ class _Reader:
             if len(same) == 1:
                 return same[0]
             if same:
-                problem(f"{what} '{name}' could be any of " +
+                problem(f"{what} {_shown(name)} could be any of " +
                         ", ".join(f"{s['kw']['board']}/{name}" for s in same) +
-                        "; expected its label as BOARD/REF", f"{what} '{name}'")
+                        "; expected its label as BOARD/REF", f"{what} {_shown(name)}")
             else:
-                problem(f"{what} '{name}' on layer '{layer}' matches no circuit; "
+                problem(f"{what} {_shown(name)} on layer '{layer}' matches no circuit; "
                         "expected a label BOARD/REF or REF of a circuit in the plan",
-                        f"{what} '{name}'")
+                        f"{what} {_shown(name)}")
             return None
 
         drawn_route = set()
@@ -1206,11 +1492,11 @@ class _Reader:
             label = f"{kw['board']}/{kw['ref']}"
             if id(c) in drawn_route:
                 problem(f"circuit {label} is drawn twice; expected one route per "
-                        "circuit", f"drawn route '{name}'")
+                        "circuit", f"drawn route {_shown(name)}")
             elif "route" in c["m"]:
                 problem(f"circuit {label} has a route in the plan file "
                         f"({kw['where'].path}.route) and one drawn here; keep one",
-                        f"drawn route '{name}'")
+                        f"drawn route {_shown(name)}")
             else:
                 kw["route"] = tuple((float(x), float(y)) for x, y in pts)
                 drawn_route.add(id(c))
@@ -1225,19 +1511,19 @@ class _Reader:
             oname = o.name or "(unnamed)"
             if "outlets" in c["m"]:
                 problem(f"circuit {label} lists outlets in the plan file "
-                        f"({kw['where'].path}.outlets) and has outlet '{oname}' drawn "
-                        "here; keep one", f"drawn outlet '{oname}'")
+                        f"({kw['where'].path}.outlets) and has outlet {_shown(oname)} drawn "
+                        "here; keep one", f"drawn outlet {_shown(oname)}")
                 continue
             if o.height_m is None:
-                problem(f"drawn outlet '{oname}' of circuit {label} has no height; "
+                problem(f"drawn outlet {_shown(oname)} of circuit {label} has no height; "
                         "expected its height above the floor in the drawing",
-                        f"drawn outlet '{oname}'")
+                        f"drawn outlet {_shown(oname)}")
                 continue
             kind = o.kind or _KIND_OF_USE.get(kw.get("use") or "sockets", "socket")
             if kind not in OUTLET_KINDS:
-                problem(f"unknown outlet kind '{kind}' for drawn outlet '{oname}'; "
+                problem(f"unknown outlet kind {_shown(kind)} for drawn outlet {_shown(oname)}; "
                         f"expected one of {', '.join(OUTLET_KINDS)}",
-                        f"drawn outlet '{oname}'")
+                        f"drawn outlet {_shown(oname)}")
                 continue
             drawn_outlets.setdefault(id(c), []).append(
                 Outlet((float(o.at[0]), float(o.at[1])), float(o.height_m),
@@ -1249,14 +1535,25 @@ class _Reader:
         for ref, at in drawn.boards.items():
             b = board_refs.get(ref)
             if b is None:
-                problem(f"drawn board '{ref}' is not among the plan's boards; "
-                        f"{_did_you_mean(ref, list(board_refs))}", f"drawn board '{ref}'")
+                problem(f"drawn board {_shown(ref)} is not among the plan's boards; "
+                        f"{_did_you_mean(ref, list(board_refs))}", f"drawn board {_shown(ref)}")
             elif "at" in b["m"]:
                 problem(f"board {ref} has a position in the plan file "
                         f"({b['kw']['where'].path}.at) and one drawn here; keep one",
-                        f"drawn board '{ref}'")
+                        f"drawn board {_shown(ref)}")
             else:
                 b["at"] = (float(at[0]), float(at[1]))
+
+
+def _conductor_checker():
+    """``zsplan.conductors.check_conductor``, or None while it does not exist."""
+    try:
+        from zsplan import conductors
+    except ModuleNotFoundError as exc:
+        if exc.name == "zsplan.conductors":
+            return None
+        raise
+    return getattr(conductors, "check_conductor", None)
 
 
 def _flat_key(node):

@@ -9,6 +9,7 @@ refused, so inputs are never overwritten.
 from __future__ import annotations
 
 import os
+import stat
 import tempfile
 from pathlib import Path
 from typing import Iterable
@@ -17,26 +18,56 @@ from .errors import PlanError, Problem
 
 __all__ = ["write_atomic", "check_output_path"]
 
+#: characters the temporary file's name adds to the target's (".NAME.xxxxxxxx.tmp")
+_TMP_EXTRA = 14
+
 
 def check_output_path(out: str | os.PathLike, inputs: Iterable[str | os.PathLike] = ()) -> Path:
-    """Resolve ``out`` and refuse it when it is an input or its folder is missing."""
-    target = Path(out).expanduser()
-    resolved = target.resolve()
+    """Resolve ``out`` and refuse it when it cannot or must not be written.
+
+    Refused, each with a :class:`~zsplan.errors.PlanError` naming the path:
+    an input file (the same path, or the same file through a link), a name
+    the system cannot use (a NUL character, too long), a missing folder, a
+    folder, and anything that exists but is not a regular file (a device
+    such as ``/dev/null``, a pipe): replacing it would destroy it.
+    """
+    shown = str(out) if str(out).isprintable() else repr(str(out))
+    try:
+        target = Path(out).expanduser()
+        resolved = target.resolve()
+        exists = os.path.lexists(resolved)
+        info = os.stat(resolved) if exists else None
+    except (OSError, ValueError, RuntimeError) as exc:   # NUL, too long, a symlink loop
+        why = getattr(exc, "strerror", None) or str(exc)
+        raise PlanError(Problem(shown, f"cannot be used as an output file name ({why}); "
+                                       "choose another output path")) from None
     for inp in inputs:
         if inp is None:
             continue
         try:
             same = resolved == Path(inp).expanduser().resolve() or (
-                target.exists() and Path(inp).exists() and os.path.samefile(target, inp))
-        except OSError:
+                exists and Path(inp).exists() and os.path.samefile(resolved, inp))
+        except (OSError, ValueError):
             same = False
         if same:
-            raise PlanError(Problem(str(out), f"refusing to write over the input file {inp}; "
-                                              "choose another output path"))
+            raise PlanError(Problem(shown, f"refusing to write over the input file {inp}; "
+                                           "choose another output path"))
     if not resolved.parent.is_dir():
-        raise PlanError(Problem(str(out), f"the folder {resolved.parent} does not exist"))
-    if resolved.is_dir():
-        raise PlanError(Problem(str(out), "is a folder; expected a file name"))
+        raise PlanError(Problem(shown, f"the folder {resolved.parent} does not exist"))
+    try:
+        name_max = os.pathconf(resolved.parent, "PC_NAME_MAX")
+    except (OSError, ValueError, AttributeError):
+        name_max = 255
+    if len(os.fsencode(target.name)) + _TMP_EXTRA > name_max:
+        raise PlanError(Problem(shown[:80] + "...", f"the file name is too long for the folder "
+                                f"{resolved.parent} (at most {name_max - _TMP_EXTRA} bytes here); "
+                                "choose a shorter output name"))
+    if info is not None and stat.S_ISDIR(info.st_mode):
+        raise PlanError(Problem(shown, "is a folder; expected a file name"))
+    if info is not None and not stat.S_ISREG(info.st_mode):
+        raise PlanError(Problem(shown, "exists and is not a regular file (a device, pipe or "
+                                       "socket); refusing to replace it; choose another output "
+                                       "path"))
     return target
 
 

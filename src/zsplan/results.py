@@ -40,13 +40,23 @@ def safe_round(name: str, value: float, decimals: int | None = None):
         return None
     d = _DECIMALS.get(name, 4) if decimals is None else decimals
     scale = 10.0 ** d
-    # a relative nudge keeps exact decimals (0.4, 1.37) from moving by one unit
-    # through binary representation error
-    eps = 1e-9 * max(1.0, abs(value)) * scale
+    x = value * scale
+    if not math.isfinite(x):
+        return value
+    # a nudge of a relative 1e-12 keeps exact decimals (0.4, 1.37) from moving
+    # by one unit through binary representation error, and is far too small
+    # to hide a real difference; it never carries a value across zero
+    eps = min(0.25, 1e-12 * max(1.0, abs(x)))
     if name in ROUND_UP:
-        return math.ceil(value * scale - eps) / scale
+        r = math.ceil(x - eps)
+        if value > 0 >= r:
+            r = math.ceil(x)
+        return r / scale
     if name in ROUND_DOWN:
-        return math.floor(value * scale + eps) / scale
+        r = math.floor(x + eps)
+        if value < 0 <= r:
+            r = math.floor(x)
+        return r / scale
     return round(value, d)
 
 

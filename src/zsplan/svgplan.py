@@ -88,6 +88,13 @@ OUTLET_KINDS = ("socket", "light", "switch", "spur", "fixed")
 PX_MM = 25.4 / 96.0
 #: units a physical drawing size may be given in
 _PHYSICAL = ("mm", "cm", "q", "in", "pt", "pc")
+#: Largest magnitude of a plan coordinate read from a drawing, the same bound
+#: as :data:`zsplan.loader.MAX_COORDINATE_M`. [m]
+MAX_COORDINATE_M = 1e8
+#: Most elements the read layers may stand for, <use> clones expanded.  Real
+#: drawings hold a few thousand; the geometry reader takes up to about 3 ms per
+#: marker (a circle's box), so this bounds a drawing's reading time to about 30 s.
+MAX_ELEMENTS = 10_000
 #: private attribute tying svgelements' objects back to the parsed elements
 _INDEX = "data-zsplan-n"
 _ROUTE_TAGS = frozenset({"path", "polyline", "line"})
@@ -238,11 +245,59 @@ def _mm_per_user_unit(root, name, warnings) -> float:
 
 def _metres_per_unit(root, name, scale, units_per_metre, calibrate, warnings) -> float:
     if scale is not None:
-        return _mm_per_user_unit(root, name, warnings) * _finite_positive(scale) / 1000.0
-    if units_per_metre is not None:
-        return 1.0 / _finite_positive(units_per_metre)
-    (x1, y1), (x2, y2), length = calibrate
-    return _finite_positive(length) / math.hypot(float(x2) - float(x1), float(y2) - float(y1))
+        mpu, key = _mm_per_user_unit(root, name, warnings) * _finite_positive(scale) / 1000.0, "scale"
+    elif units_per_metre is not None:
+        mpu, key = 1.0 / _finite_positive(units_per_metre), "units_per_metre"
+    else:
+        (x1, y1), (x2, y2), length = calibrate
+        with np.errstate(all="ignore"):
+            mpu = _finite_positive(length) / math.hypot(float(x2) - float(x1), float(y2) - float(y1))
+        key = "calibrate"
+    if not (math.isfinite(mpu) and mpu > 0):
+        raise PlanError(Problem(
+            file=name, path=f"drawing.{key}", line=source_line(root),
+            message=(f"the drawing's size and drawing.{key} give {mpu:g} metres per drawing "
+                     "unit; expected a finite, positive scale")))
+    return mpu
+
+
+# --------------------------------------------------------------------------
+# Transforms
+# --------------------------------------------------------------------------
+
+_NUM = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?"
+_TRANSFORM_FN = re.compile(r"[\s,]*(matrix|translate|scale|rotate|skewX|skewY)\s*\(([^()]*)\)")
+_ARG_COUNTS = {"matrix": (6,), "translate": (1, 2), "scale": (1, 2), "rotate": (1, 3),
+               "skewX": (1,), "skewY": (1,)}
+
+
+def transform_problem(text: str) -> str | None:
+    """Why a ``transform`` attribute cannot be read, or None when it can.
+
+    Accepted: a list of ``matrix(6)``, ``translate(1-2)``, ``scale(1-2)``,
+    ``rotate(1 or 3)``, ``skewX(1)`` and ``skewY(1)`` with finite numbers,
+    separated by spaces or commas [1]_ (7.6).  A viewer ignores what it cannot
+    read; a length measured through it would be wrong, so zsplan refuses it.
+    """
+    pos, text = 0, text or ""
+    while True:
+        m = _TRANSFORM_FN.match(text, pos)
+        if m is None:
+            break
+        name, args = m.group(1), m.group(2).strip()
+        nums = [a for a in re.split(r"[\s,]+", args) if a] if args else []
+        if not all(re.fullmatch(_NUM, a) for a in nums):
+            return f"{name}({args[:40]}) has an argument that is not a number"
+        if len(nums) not in _ARG_COUNTS[name]:
+            counts = " or ".join(map(str, _ARG_COUNTS[name]))
+            return f"{name}() takes {counts} numbers, got {len(nums)}"
+        if not all(math.isfinite(float(a)) for a in nums):
+            return f"{name}({args[:40]}) has a number beyond the floating-point range"
+        pos = m.end()
+    rest = text[pos:].strip(" \t\r\n,")
+    if rest:
+        return f"cannot read {rest[:40]!r}"
+    return None
 
 
 # --------------------------------------------------------------------------
@@ -431,6 +486,14 @@ def flatten_segments(segments, matrix=None, tol: float = 0.1) -> list[np.ndarray
 # Reading the drawing
 # --------------------------------------------------------------------------
 
+def _shown(text, limit: int = 60) -> str:
+    """``text`` quoted for a message: control characters escaped, long text cut."""
+    text = str(text)
+    if len(text) > limit:
+        text = text[:limit] + f"... ({len(text):,} characters)"
+    return repr(text)
+
+
 def _norm(text) -> str:
     return " ".join(str(text).split()).casefold()
 
@@ -581,9 +644,25 @@ class _Reader:
     def load_geometry(self):
         import svgelements as se
 
+        by_index = {}
         for n, el in enumerate(e for e in self.root.iter() if isinstance(e.tag, str)):
             el.set(_INDEX, str(n))
+            by_index[str(n)] = el
         work = _pruned(sanitize_for_embedding(self.root), self.roles)
+        self._check_size(work, by_index)
+        # every transform that moves what is read must be readable: svgelements
+        # would skip a broken one and measure the drawing untransformed
+        bad = []
+        for e in work.iter():
+            why = transform_problem(e.get("transform")) if e.get("transform") else None
+            if why:
+                orig = by_index.get(e.get(_INDEX), e)
+                bad.append(Problem(file=self.name, path=_describe(orig), line=source_line(orig),
+                                   message=(f"the transform {_shown(e.get('transform'))} cannot be "
+                                            f"read ({why}); expected SVG transforms such as "
+                                            "translate(10, 20) scale(2) with finite numbers")))
+        if bad:
+            raise PlanError(bad)
         vb, _, _ = svg_size(self.root)
         for key in ("viewBox", "preserveAspectRatio", "x", "y", "width", "height"):
             work.attrib.pop(key, None)
@@ -612,6 +691,61 @@ class _Reader:
                     self.nodes[int(key)] = node
                 if isinstance(node, se.Group):   # not Use: clones map to their original
                     stack.append(node)
+
+    def _check_size(self, work: ET.Element, by_index: dict) -> None:
+        """Refuse layers that stand for too many shapes once clones are expanded.
+
+        Each ``<use>`` stands for the element it refers to, so clones of
+        clones multiply (the drawing's form of an entity bomb), and a clone
+        that refers to itself, directly or not, never ends.  Counted once per
+        element (memoised), without recursion.
+        """
+        by_id = {e.get("id"): e for e in work.iter() if e.get("id")}
+
+        def target(e):
+            if local_name(e.tag) != "use":
+                return None
+            href = (e.get(f"{{{XLINK_NS}}}href") or e.get("href") or "").strip()
+            return by_id.get(href[1:]) if href.startswith("#") else None
+
+        size: dict[int, int] = {}
+        on_path: set[int] = set()
+        stack = [(work, False)]
+        cap = MAX_ELEMENTS + 1
+        while stack:
+            e, done = stack.pop()
+            kids = list(e) + ([target(e)] if target(e) is not None else [])
+            if done:
+                on_path.discard(id(e))
+                size[id(e)] = min(cap, 1 + sum(size.get(id(k), 1) for k in kids))
+                continue
+            if id(e) in size:
+                continue
+            on_path.add(id(e))
+            stack.append((e, True))
+            for k in kids:
+                if id(k) in on_path:
+                    orig = by_index.get(e.get(_INDEX), e)
+                    raise PlanError(Problem(
+                        file=self.name, path=_describe(orig), line=source_line(orig),
+                        message=("this <use> refers, directly or through others, to an element "
+                                 "that contains it, so it would never end; expected clones of "
+                                 "symbols defined elsewhere in the drawing")))
+                if id(k) not in size:
+                    stack.append((k, False))
+        total = size.get(id(work), 1)
+        if total > MAX_ELEMENTS:
+            in_defs = {id(d) for g in work.iter() if local_name(g.tag) == "defs" for d in g.iter()}
+            uses = [e for e in work.iter() if target(e) is not None]
+            uses = [e for e in uses if id(e) not in in_defs] or uses     # a layer's own clone first
+            worst = max(uses, key=lambda e: size.get(id(e), 1), default=work)
+            orig = by_index.get(worst.get(_INDEX), worst)
+            raise PlanError(Problem(
+                file=self.name, path=_describe(orig), line=source_line(orig),
+                message=(f"the layers zsplan reads (routes, boards, outlets) stand for more than "
+                         f"{MAX_ELEMENTS:,} elements once <use> clones are expanded (this one alone "
+                         f"for {min(size.get(id(worst), 1), MAX_ELEMENTS):,} or more); expected "
+                         "layers holding the routes and markers only (clones of clones multiply)")))
 
     def node(self, el):
         key = el.get(_INDEX)
@@ -692,9 +826,9 @@ class _Reader:
                 return None
             try:
                 se.Path(d)
-            except (ValueError, IndexError) as exc:
-                self.problem(el, f"the route's path data cannot be read ({exc or 'malformed'}); "
-                                 "expected valid SVG path data")
+            except (ValueError, IndexError, TypeError, OverflowError):
+                self.problem(el, f"the route's path data {_shown(d)} cannot be read; expected "
+                                 "valid SVG path data such as 'M 10,10 L 10,50 L 110,50'")
                 return None
         if node is None:
             self.problem(el, "the route draws nothing (no points, or zero size); expected "
@@ -717,6 +851,17 @@ class _Reader:
             return None
         return parts[0]
 
+    def within_bounds(self, el, metres, what: str) -> bool:
+        """Plan coordinates (metres) within :data:`MAX_COORDINATE_M`; else a problem."""
+        with np.errstate(all="ignore"):
+            worst = float(np.max(np.abs(metres))) if np.size(metres) else 0.0
+        if worst <= MAX_COORDINATE_M:
+            return True
+        self.problem(el, f"the {what} lies {worst:.3g} m from the drawing's origin at this scale; "
+                         f"expected coordinates within {MAX_COORDINATE_M:g} m (check the "
+                         "drawing's scale, and the transforms of the groups around it)")
+        return False
+
     def centre(self, el):
         import svgelements as se
 
@@ -735,8 +880,16 @@ class _Reader:
             elif isinstance(n, (se.Group, se.Use)):
                 todo.extend(list(n))
         if not boxes:
-            self.problem(el, "the marker has no shape to locate it by; expected a circle, "
-                             "rect, path, use, or a group containing one")
+            outside = [e for e in el.iter() if local_name(e.tag) in ("use", "image")
+                       and (e.get(f"{{{XLINK_NS}}}href") or e.get("href") or "#").strip()[:1] != "#"]
+            if outside:
+                href = (outside[0].get(f"{{{XLINK_NS}}}href") or outside[0].get("href")).strip()
+                self.problem(el, f"the marker shows {_shown(href)}, outside this drawing, and zsplan "
+                                 "reads nothing from other files or addresses; expected a shape, "
+                                 "or a clone of a symbol in this drawing (href=\"#id\")")
+            else:
+                self.problem(el, "the marker has no shape to locate it by; expected a circle, "
+                                 "rect, path, use, or a group containing one")
             return None
         b = np.array(boxes)
         return (float((b[:, 0].min() + b[:, 2].max()) / 2.0),
@@ -866,8 +1019,11 @@ def read_drawing(svg_path, *, scale: float | None = None,
             pts = reader.route(el)
             if pts is None:
                 continue
+            metres = np.asarray(pts, dtype=float) * mpu
+            if not reader.within_bounds(el, metres, "route"):
+                continue
             route_el[circuit] = el
-            routes[circuit] = tuple((float(x) * mpu, float(y) * mpu) for x, y in pts)
+            routes[circuit] = tuple((float(x), float(y)) for x, y in metres.tolist())
             label = f"route {circuit!r}"
         elif role == "boards":
             ref = _own(el, "data-board") or _own(el, LABEL)
@@ -876,7 +1032,7 @@ def read_drawing(svg_path, *, scale: float | None = None,
                                    f"{_where(board_el[ref])} and {_where(el)}")
                 continue
             at = reader.centre(el)
-            if at is None:
+            if at is None or not reader.within_bounds(el, np.multiply(at, mpu), "board marker"):
                 continue
             board_el[ref] = el
             boards[ref] = (at[0] * mpu, at[1] * mpu)
@@ -942,7 +1098,7 @@ def _outlet(reader: _Reader, el: ET.Element, mpu: float) -> DrawnOutlet | None:
                                    "the floor (0 or more)")
                 ok = False
     at = reader.centre(el)
-    if at is None or not ok:
+    if at is None or not ok or not reader.within_bounds(el, np.multiply(at, mpu), "outlet marker"):
         return None
     return DrawnOutlet(circuit=circuit, at=(at[0] * mpu, at[1] * mpu), name=name,
                        kind=kind, height_m=height)

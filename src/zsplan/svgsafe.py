@@ -32,6 +32,7 @@ from __future__ import annotations
 import copy
 import os
 import re
+import stat
 import weakref
 import xml.etree.ElementTree as ET
 from xml.parsers import expat
@@ -161,22 +162,40 @@ def parse_svg(path, *, plan_file: str = "", max_bytes: int = MAX_BYTES) -> ET.El
         :data:`MAX_DEPTH`, or a root element other than ``<svg>``; the problem
         names the file, the line where known, and what was expected.
     """
-    name = os.fspath(path)
+    name = os.fsdecode(os.fspath(path))
     try:
-        size = os.stat(name).st_size
+        info = os.stat(name)
     except FileNotFoundError:
         raise _file_problem(name, plan_file, "no such file; expected an SVG floor plan") from None
-    except OSError as exc:
-        raise _file_problem(name, plan_file, f"cannot read the file ({exc.strerror})") from None
-    if os.path.isdir(name):
+    except (OSError, ValueError) as exc:     # ValueError: a NUL in the name
+        why = getattr(exc, "strerror", None) or "not a usable file name"
+        raise _file_problem(name if name.isprintable() else repr(name), plan_file,
+                            f"cannot read the file ({why})") from None
+    if stat.S_ISDIR(info.st_mode):
         raise _file_problem(name, plan_file, "is a folder; expected an SVG file")
+    if stat.S_ISFIFO(info.st_mode) or stat.S_ISSOCK(info.st_mode):
+        # opening or reading a pipe or a socket waits for a writer that may never come;
+        # a device is read like a file, within the size bound
+        raise _file_problem(name, plan_file, "is a pipe or socket, not a file; expected an "
+                            "SVG file")
+    size = info.st_size
     too_big = (f"larger than the {max_bytes:,}-byte limit for a floor plan; expected a "
                "smaller SVG (simplify it, or link a smaller underlay image)")
     if size > max_bytes:
         raise _file_problem(name, plan_file, f"the file is {size:,} bytes, {too_big}")
     try:
         with open(name, "rb") as fh:
-            data = fh.read(max_bytes + 1)
+            # read what stat reported, then on in 1 MB pieces only if there is more
+            # (a device, a growing file): memory follows the file, not the limit
+            parts = [fh.read(min(size, max_bytes) + 1)]
+            got = len(parts[0])
+            while got > size and got <= max_bytes:
+                piece = fh.read(min(1 << 20, max_bytes + 1 - got))
+                if not piece:
+                    break
+                parts.append(piece)
+                got += len(piece)
+            data = b"".join(parts)
     except OSError as exc:
         raise _file_problem(name, plan_file, f"cannot read the file ({exc.strerror})") from None
     if len(data) > max_bytes:

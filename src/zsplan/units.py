@@ -56,6 +56,21 @@ def _a(kind: str) -> str:
     return ("an " if kind[0] in "aeiou" else "a ") + kind
 
 
+#: Longest quantity text read: real ones are short ('3 ft 6 in', '350 mohm'),
+#: and a bound keeps the parsing time and the messages bounded. [characters]
+MAX_TEXT = 80
+#: Longest unit text handed to pint. [characters]
+MAX_UNIT = 32
+
+
+def _shown(value, limit: int = 40) -> str:
+    """A value quoted for a message: control characters escaped, long text cut."""
+    text = value if isinstance(value, str) else repr(value)
+    if len(text) > limit:
+        text = text[:limit] + f"... ({len(text):,} characters)"
+    return repr(text)
+
+
 class UnitProblem(ValueError):
     """A quantity string that cannot be read as the expected kind."""
 
@@ -97,10 +112,13 @@ def _parse_cached(text: str, kind: str) -> float:
         return float(m.group(1)) * 0.3048 + float(m.group(2)) * 0.0254
     m = _SPLIT.match(text)
     if not m:
-        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {text!r}")
+        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {_shown(text)}")
     number, unit_text = float(m.group(1)), m.group(2)
     if not unit_text:
         return number
+    if len(unit_text) > MAX_UNIT or not unit_text.isprintable():
+        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {_shown(text)} "
+                          f"(unknown unit {_shown(unit_text)})")
     ureg = registry()
     try:
         q = ureg.Quantity(number, _normalise_unit(unit_text))
@@ -109,12 +127,15 @@ def _parse_cached(text: str, kind: str) -> float:
         name = type(exc).__name__
         if name == "DimensionalityError":
             raise UnitProblem(
-                f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {text!r} "
-                f"(unit {unit_text!r} is not {_a(kind)})") from None
+                f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {_shown(text)} "
+                f"(unit {_shown(unit_text)} is not {_a(kind)})") from None
         raise UnitProblem(
-            f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {text!r} "
-            f"(unknown unit {unit_text!r})") from None
-    return float(value)
+            f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {_shown(text)} "
+            f"(unknown unit {_shown(unit_text)})") from None
+    try:
+        return float(value)
+    except (TypeError, ValueError, OverflowError):   # a complex or odd magnitude
+        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {_shown(text)}") from None
 
 
 def parse(value, kind: str) -> float:
@@ -123,18 +144,27 @@ def parse(value, kind: str) -> float:
     Returns a float in the kind's internal unit (see the module table).
     Raises :class:`UnitProblem` with a message stating what was expected.
     Non-finite results are refused here, so NaN and infinity never reach
-    the engine.
+    the engine; so are texts longer than :data:`MAX_TEXT` characters (a
+    quantity is short, and the bound keeps parsing time and messages bounded)
+    and integers beyond the floating-point range.
     """
     if kind not in KINDS:
         raise KeyError(kind)
     if isinstance(value, bool) or value is None:
         raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {value!r}")
     if isinstance(value, (int, float)):
-        out = float(value)
+        try:
+            out = float(value)
+        except OverflowError:            # an int beyond the float range
+            raise UnitProblem(f"expected a finite {kind}, got {_shown(value)}") from None
     elif isinstance(value, str):
-        out = _parse_cached(value.strip(), kind)
+        text = value.strip()
+        if len(text) > MAX_TEXT:
+            raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got "
+                              f"{_shown(text)} (too long for a quantity)")
+        out = _parse_cached(text, kind)
     else:
-        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {value!r}")
+        raise UnitProblem(f"expected {_a(kind)} such as {EXAMPLES[kind]}, got {_shown(value)}")
     if not math.isfinite(out):
-        raise UnitProblem(f"expected a finite {kind}, got {value!r}")
+        raise UnitProblem(f"expected a finite {kind}, got {_shown(value)}")
     return out

@@ -64,15 +64,22 @@ def test_flat_has_exactly_one_tight_circuit(tmp_path):
     assert {c.device.type for c in r.plan.circuits} == {"mcb"}
 
 
-def test_workshop_fails_the_compressor_and_the_unprotected_sub_main(tmp_path):
+def test_workshop_fails_only_the_compressor(tmp_path):
     r = check(str(_copy(tmp_path, "workshop")))
     assert _statuses(r) == {"DB1/1": "pass", "DB1/2": "pass", "DB1/3": "pass", "DB1/4": "fail",
                             "DB2/1": "pass", "DB2/2": "pass"}
     assert r.plan.supply.earthing == "TT"
     assert {c.device.family for c in r.plan.circuits if c.board == "DB1"} == {"bs3036", "bs88-3"}
-    assert r.plan.board("DB2").fed_from.board == "DB1"
+    feed = r.plan.board("DB2").fed_from
+    assert feed.board == "DB1"
+    # the sub-main's own time-delayed 100 mA RCD gives its fault protection on TT
+    assert feed.rcd_a == pytest.approx(0.1) and feed.rcd_kind == "selective"
     subs = r.submains
-    assert list(subs["boards"]) == ["DB2"] and list(subs["status"]) == ["fail"]
+    assert list(subs["boards"]) == ["DB2"] and list(subs["status"]) == ["pass"]
+    assert list(subs["disconnection_by"]) == ["rcd"]
+    # BS 7671:2018 Regulation 411.5.3 (from memory): RA x IΔn <= 50 V; hand-worked 50 V / 0.1 A = 500 ohm
+    assert float(subs["zs_max_ohm"][0]) == pytest.approx(500.0)
+    assert r.any_fail          # DB1/4 still fails
 
 
 def test_drawn_routes_are_read_from_the_floor_plans(tmp_path):

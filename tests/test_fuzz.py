@@ -53,7 +53,9 @@ PLAN_KEYS = sorted({
     "height", "fed_from", "board", "device", "load", "name", "use", "topology", "rcd",
     "route", "outlets", "type", "curve", "rating", "standard", "family", "line", "cpc",
     "material", "temp_rating", "insulation", "kind", "tight", "alpha", "test_limit",
-    "vdrop_lighting", "vdrop_other", "<<", "x-note"})
+    "vdrop_lighting", "vdrop_other", "<<", "x-note", "method", "phases", "insulation_length",
+    "rcd_fault_protection", "rcd_type", "construction", "private", "vdrop_load",
+    "group_distance", "group_min_length", "grouping"})
 #: words the plan's choices use, and some near misses
 WORDS = ["TN-S", "TN-C-S", "TT", "TN-C", "mcb", "rcbo", "fuse", "B", "C", "D", "K",
          "bs88-2", "bs88-3", "bs3036", "bs1362", "copper", "aluminium", "ceiling", "floor",

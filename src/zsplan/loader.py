@@ -29,10 +29,12 @@ References
 from __future__ import annotations
 
 import difflib
+import functools
 import math
 import os
 import re
 import stat
+from dataclasses import replace
 from pathlib import Path
 
 import yaml
@@ -47,7 +49,7 @@ from zsplan.model import (DEVICE_TYPES, EARTHING, MATERIALS, RUNS, TOPOLOGIES,
 
 __all__ = ["load_plan", "load_plan_text", "FORMAT_VERSION", "CURVES",
            "FUSE_STANDARDS", "INSULATIONS", "OUTLET_KINDS", "ALPHA_METHODS",
-           "TEST_LIMIT_METHODS", "MAX_PLAN_BYTES", "LIMITS", "MAX_COORDINATE_M"]
+           "TEST_LIMIT_METHODS", "MAX_PLAN_BYTES", "LIMITS", "MAX_COORDINATE_M", "PHASES"]
 
 #: The plan format version this loader reads.
 FORMAT_VERSION = 1
@@ -99,6 +101,8 @@ INSULATIONS = ("thermoplastic", "thermosetting")
 OUTLET_KINDS = ("socket", "light", "switch", "spur", "fixed")
 ALPHA_METHODS = ("bs7671", "iec60228")
 TEST_LIMIT_METHODS = ("rule-of-0.8", "temperature-ratio")
+#: phases of a circuit or sub-main: single-phase, or a balanced three-phase load
+PHASES = ("1", "3")
 
 # --- defaults (each with its source) -----------------------------------------
 # BS 7671:2018 Appendix 4, Table 4B1: current ratings are tabulated for a
@@ -135,23 +139,26 @@ def _keys(*names: str) -> dict[str, None]:
 
 _TOP_KEYS = _keys("zsplan", "title", "supply", "defaults", "drawing", "boards",
                   "circuits", "settings")
-_SUPPLY_KEYS = _keys("u0", "earthing", "ze", "cmin", "electrode")
+_SUPPLY_KEYS = _keys("u0", "earthing", "ze", "cmin", "electrode", "private")
 _DEFAULT_KEYS = _keys("ceiling", "allowance", "extra", "ambient", "test_temperature",
                       "run", "cable", "cpc_with_line")
 _DRAWING_KEYS = _keys("floorplan", "scale", "units_per_metre", "calibrate",
                       "routes_layer")
 _CALIBRATE_KEYS = _keys("from", "to", "length")
 _BOARD_KEYS = _keys("ref", "at", "height", "fed_from")
-_FED_KEYS = _keys("board", "cable", "length", "device", "load")
+_FED_KEYS = _keys("board", "cable", "length", "device", "load", "method", "phases",
+                  "ambient", "rcd", "rcd_type")
 _CIRCUIT_KEYS = _keys("ref", "board", "name", "use", "topology", "device", "rcd",
                       "cable", "ambient", "load", "run", "route", "outlets",
-                      "allowance", "extra", "ceiling", "test_temperature")
+                      "allowance", "extra", "ceiling", "test_temperature", "method",
+                      "insulation_length", "phases", "rcd_fault_protection", "rcd_type")
 _DEVICE_KEYS = _keys("type", "curve", "rating", "standard", "family")
 _CABLE_KEYS = _keys("line", "cpc", "material", "temp_rating", "cpc_with_line",
-                    "insulation")
+                    "insulation", "construction")
 _OUTLET_KEYS = _keys("at", "height", "name", "kind")
 _SETTINGS_KEYS = _keys("tight", "alpha", "test_limit", "vdrop_lighting",
-                       "vdrop_other")
+                       "vdrop_other", "vdrop_load", "group_distance", "group_min_length",
+                       "grouping")
 
 #: the outlet kind a circuit's outlets take when none is given
 _KIND_OF_USE = {"sockets": "socket", "lighting": "light", "fixed": "fixed",
@@ -444,6 +451,33 @@ def _did_you_mean(word: str, choices) -> str:
     return "expected one of: " + ", ".join(choices)
 
 
+@functools.lru_cache(maxsize=1)
+def _engine_choices() -> dict:
+    """The choices the engine's modules offer (imported only when a plan needs them).
+
+    ``construction``, ``method`` and ``grouping`` from :mod:`zsplan.capacity`
+    (the current-rating tables it holds), ``vdrop_load`` from
+    :mod:`zsplan.vdrop`, ``rcd_type`` from :mod:`zsplan.rcd` (the RCD kinds it
+    has break times for) and ``rated``: the (construction, method, phases)
+    combinations that have a current-rating table (``rated_method``: the
+    (construction, method) pairs).
+    """
+    from zsplan import capacity, rcd, vdrop
+    return {"construction": tuple(capacity.constructions()),
+            "method": tuple(capacity.methods()),
+            "grouping": tuple(capacity.arrangements()),
+            "vdrop_load": tuple(vdrop.load_models()),
+            "rcd_type": tuple(sorted(rcd.break_times())),
+            "rated": frozenset((k[0], k[3], int(k[4])) for k in capacity.capacity_table()),
+            "rated_method": frozenset((k[0], k[3]) for k in capacity.capacity_table())}
+
+
+def _private_limits() -> dict[str, float]:
+    """Voltage-drop limits for a private supply (``zsplan.vdrop.LIMITS_PCT``), percent."""
+    from zsplan.vdrop import LIMITS_PCT
+    return LIMITS_PCT["private"]
+
+
 def _device_checker():
     """``zsplan.protection.check_device``, or None while it does not exist."""
     try:
@@ -483,6 +517,7 @@ class _Reader:
         self._reported: set = set()
         self._drawing_warnings: list = []
         self._drawing_failed = False
+        self._vdrop_limits_given: set[str] = set()
 
     # -- reporting
     def add(self, message: str, path: str, node=None, line=None) -> None:
@@ -684,6 +719,40 @@ class _Reader:
         self.add(f"expected {what}: true or false, got {_describe(node)}", path, node)
         return None
 
+    def engine_choice(self, node, path: str, name: str, what: str):
+        """One of the engine's choices ``name`` (see :func:`_engine_choices`)."""
+        return self.choice(node, path, _engine_choices()[name], what)
+
+    def phases(self, node, path: str):
+        """``1`` or ``3`` -> int."""
+        got = self.choice(node, path, PHASES, "number of phases")
+        return None if got is None else int(got)
+
+    def rated(self, out: dict, construction, path: str, m: dict) -> None:
+        """A current-rating table exists for the construction, method and phases.
+
+        ``out`` holds ``method`` and ``phases`` (when given, else the model's
+        defaults, which every construction has); the problem is put at the
+        key that was given.
+        """
+        method, phases = out.get("method", "C"), out.get("phases", 1)
+        if None in (construction, method, phases):
+            return
+        choices = _engine_choices()
+        rated = choices["rated"]
+        if (construction, method, phases) in rated:
+            return
+        if (construction, method) not in choices["rated_method"]:
+            have = sorted({mt for c, mt, _ in rated if c == construction})
+            self.add(f"no current ratings for {construction} cable in installation method "
+                     f"{method}; expected one of {', '.join(have)}", f"{path}.method",
+                     m.get("method"))
+        else:
+            have = sorted({ph for c, mt, ph in rated if c == construction and mt == method})
+            self.add(f"no current ratings for {construction} cable carrying {phases} "
+                     f"phases (method {method}); expected phases: "
+                     f"{' or '.join(map(str, have))}", f"{path}.phases", m.get("phases"))
+
     def point(self, node, path: str, what: str = "a point [x, y] in plan metres"):
         """``[x, y]`` of numbers (metres) or length strings -> (x, y).
 
@@ -736,6 +805,13 @@ class _Reader:
         supply = self.supply(top.get("supply"), root)
         defaults = self.defaults(top.get("defaults"))
         settings = self.settings(top.get("settings"))
+        if supply is not None and supply.private:
+            # a private supply: its own limits, unless the settings give them
+            lim = _private_limits()
+            settings = replace(settings, **{
+                f"{key}_pct": lim[use] for key, use in (("vdrop_lighting", "lighting"),
+                                                         ("vdrop_other", "other"))
+                if key not in self._vdrop_limits_given})
         drawing, drawing_ok = self.drawing(top.get("drawing"))
 
         boards_node = top.get("boards")
@@ -744,7 +820,7 @@ class _Reader:
                          "with a ref")
             boards = []
         else:
-            boards = self.boards(boards_node)
+            boards = self.boards(boards_node, defaults)
         circuits_node = top.get("circuits")
         if circuits_node is None:
             self.missing(root, "", "circuits", "a list of circuits")
@@ -841,6 +917,10 @@ class _Reader:
                 self.add(f"an earth electrode (RA) applies to TT earthing only; "
                          f"earthing here is {kw['earthing']}", "supply.electrode",
                          m["electrode"])
+        if "private" in m:
+            kw["private"] = self.boolean(m["private"], "supply.private", "whether the "
+                                         "installation has a private supply (its own "
+                                         "transformer or generator)")
         if "ze_ohm" not in kw or "earthing" not in kw or None in kw.values():
             return None
         return Supply(**kw)
@@ -918,6 +998,20 @@ class _Reader:
             if key in m:
                 kw[f"{key}_pct"] = self.quantity(m[key], f"settings.{key}", "percent",
                                                  "pos")
+                self._vdrop_limits_given.add(key)
+        if "vdrop_load" in m:
+            kw["vdrop_load"] = self.engine_choice(m["vdrop_load"], "settings.vdrop_load",
+                                                  "vdrop_load", "voltage-drop load model")
+        if "group_distance" in m:
+            kw["group_distance_m"] = self.quantity(m["group_distance"],
+                                                   "settings.group_distance", "length", "pos")
+        if "group_min_length" in m:
+            kw["group_min_length_m"] = self.quantity(m["group_min_length"],
+                                                     "settings.group_min_length", "length",
+                                                     "nonneg")
+        if "grouping" in m:
+            kw["grouping_arrangement"] = self.engine_choice(m["grouping"], "settings.grouping",
+                                                            "grouping", "grouping arrangement")
         return Settings(**{k: v for k, v in kw.items() if v is not None})
 
     def drawing(self, node) -> tuple[Drawing, bool]:
@@ -1034,7 +1128,7 @@ class _Reader:
         return None
 
     # -- boards
-    def boards(self, node) -> list[dict]:
+    def boards(self, node, defaults: dict) -> list[dict]:
         """Boards as {"kw": Board fields but ``at``, "at", "m", "node"}."""
         items = self.sequence(node, "boards", "boards")
         if items is None:
@@ -1068,11 +1162,11 @@ class _Reader:
                                                "nonneg")
             if "fed_from" in m:
                 kw["fed_from"], b["fed_board"] = self.fed_from(m["fed_from"],
-                                                               f"{path}.fed_from")
+                                                               f"{path}.fed_from", defaults)
             out.append(b)
         return out
 
-    def fed_from(self, node, path: str):
+    def fed_from(self, node, path: str, defaults: dict):
         """-> (SubMain or None, the node naming the upstream board or None)."""
         m = self.mapping(node, path, _FED_KEYS, "the sub-main feeding this board")
         if m is None:
@@ -1099,9 +1193,43 @@ class _Reader:
         if "load" in m and m["load"].tag != _NULL:
             kw["load_a"] = self.quantity(m["load"], f"{path}.load", "current",
                                          "nonneg")
-        if len(kw) < 4 or None in kw.values():
+        n0 = len(self.c.problems)
+        opt = {}
+        if "method" in m:
+            opt["method"] = self.engine_choice(m["method"], f"{path}.method", "method",
+                                               "installation method")
+        if "phases" in m:
+            opt["phases"] = self.phases(m["phases"], f"{path}.phases")
+        if "ambient" in m:
+            opt["ambient_c"] = self.quantity(m["ambient"], f"{path}.ambient", "temperature",
+                                             "abs")
+        elif defaults.get("ambient_c") is not None:
+            opt["ambient_c"] = defaults["ambient_c"]
+        if "rcd" in m and m["rcd"].tag != _NULL:
+            opt["rcd_a"] = self.quantity(m["rcd"], f"{path}.rcd", "current", "pos")
+        if "rcd_type" in m:
+            opt["rcd_kind"] = self.engine_choice(m["rcd_type"], f"{path}.rcd_type",
+                                                 "rcd_type", "RCD type")
+            if "rcd_a" not in opt and len(self.c.problems) == n0:
+                self.add("rcd_type is given but the sub-main has no 'rcd'; expected its "
+                         "rated residual current too, such as 'rcd: 100 mA'",
+                         f"{path}.rcd_type", m["rcd_type"])
+        cable = kw.get("cable")
+        if cable is not None:
+            self.rated(opt, cable.construction, path, m)
+            amb = opt.get("ambient_c")
+            if amb is not None and amb >= cable.temp_rating_c:
+                src, where = m.get("ambient"), f"{path}.ambient"
+                if src is None:   # inherited: report it once, at defaults.ambient
+                    src, where = self._default_nodes.get("ambient", node), "defaults.ambient"
+                if (where, cable.temp_rating_c) not in self._reported:
+                    self._reported.add((where, cable.temp_rating_c))
+                    self.add(f"ambient {amb:g} °C is not below the cable's maximum "
+                             f"operating temperature {cable.temp_rating_c:g} °C; expected a "
+                             "lower ambient or a cable rated hotter", where, src)
+        if len(kw) < 4 or None in kw.values() or len(self.c.problems) != n0:
             return None, None
-        return SubMain(**kw), m["board"]
+        return SubMain(**kw, **opt), m["board"]
 
     def check_feeds(self, boards, refs) -> None:
         """Every ``fed_from`` names a known board, and no chain of feeds loops."""
@@ -1208,6 +1336,8 @@ class _Reader:
                          f"operating temperature {cable.temp_rating_c:g} °C; expected a "
                          "lower ambient or a cable rated hotter", where, src)
 
+        self.circuit_checks(m, path, kw)
+
         n = m.get("route")
         if n is not None:
             kw["route"] = self.route(n, f"{path}.route")
@@ -1217,6 +1347,40 @@ class _Reader:
                                          _KIND_OF_USE.get(kw.get("use") or "sockets"))
         kw["where"] = Where(self.file, path, _line(node))
         return {"kw": kw, "m": m, "node": node}
+
+    def circuit_checks(self, m: dict, path: str, kw: dict) -> None:
+        """Installation method, phases, insulation and RCD options, into ``kw``."""
+        n0 = len(self.c.problems)
+        n = m.get("method")
+        if n is not None:
+            kw["method"] = self.engine_choice(n, f"{path}.method", "method",
+                                              "installation method")
+        n = m.get("phases")
+        if n is not None:
+            kw["phases"] = self.phases(n, f"{path}.phases")
+        n = m.get("insulation_length")
+        if n is not None:
+            kw["insulation_m"] = self.quantity(n, f"{path}.insulation_length", "length",
+                                               "nonneg")
+        has_rcd = m.get("rcd") is not None and m["rcd"].tag != _NULL
+        n = m.get("rcd_fault_protection")
+        if n is not None and n.tag != _NULL:
+            v = kw["rcd_fault_protection"] = self.boolean(
+                n, f"{path}.rcd_fault_protection", "whether the circuit's RCD gives fault "
+                "protection (disconnection)")
+            if v and not has_rcd:
+                self.add("rcd_fault_protection is true but the circuit has no 'rcd'; "
+                         "expected its rated residual current too, such as 'rcd: 30 mA'",
+                         f"{path}.rcd_fault_protection", n)
+        n = m.get("rcd_type")
+        if n is not None:
+            kw["rcd_kind"] = self.engine_choice(n, f"{path}.rcd_type", "rcd_type", "RCD type")
+            if kw["rcd_kind"] is not None and not has_rcd:
+                self.add("rcd_type is given but the circuit has no 'rcd'; expected its "
+                         "rated residual current too, such as 'rcd: 30 mA'",
+                         f"{path}.rcd_type", n)
+        if kw["cable"] is not None and len(self.c.problems) == n0:
+            self.rated(kw, kw["cable"].construction, path, m)
 
     def route(self, node, path: str):
         items = self.sequence(node, path, "points [x, y] in plan metres")
@@ -1380,6 +1544,9 @@ class _Reader:
         if "insulation" in m:
             f["insulation"] = self.choice(m["insulation"], f"{path}.insulation",
                                           INSULATIONS, "insulation")
+        if "construction" in m:
+            f["construction"] = self.engine_choice(m["construction"], f"{path}.construction",
+                                                   "construction", "cable construction")
         if len(self.c.problems) != n0:
             return None
         if key is not None:
@@ -1412,7 +1579,8 @@ class _Reader:
                 "thermosetting" if temp == 90.0 else "thermoplastic")
             cable = self._cables[key] = Cable(
                 fields["line_mm2"], fields["cpc_mm2"], fields.get("material", "copper"),
-                temp, fields.get("cpc_with_line", True), insulation)
+                temp, fields.get("cpc_with_line", True), insulation,
+                fields.get("construction", "twin-and-cpc"))
         return cable
 
     def _conductors_known(self, fields: dict, path: str, node, own) -> bool:

@@ -39,6 +39,9 @@ class Supply:
     u0_v: float = 230.0
     cmin: float = 0.95
     electrode_ohm: float | None = None   # RA, TT only
+    # a private LV supply (the installation's own transformer or generator): the
+    # voltage-drop limits default to zsplan.vdrop.LIMITS_PCT["private"]
+    private: bool = False
 
 
 @dataclass(frozen=True)

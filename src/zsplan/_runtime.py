@@ -22,3 +22,22 @@ def gc_paused():
     finally:
         if was_enabled:
             gc.enable()
+
+
+def read_bounded(name: str, size: int, max_bytes: int) -> bytes:
+    """The file's bytes, at most ``max_bytes + 1`` of them.
+
+    Reads what ``stat`` reported, then on in 1 MB pieces only if the file
+    turns out longer (it grew, or it is a device), so memory follows the
+    file's size, not the limit.
+    """
+    with open(name, "rb") as fh:
+        parts = [fh.read(min(size, max_bytes) + 1)]
+        got = len(parts[0])
+        while got > size and got <= max_bytes:
+            piece = fh.read(min(1 << 20, max_bytes + 1 - got))
+            if not piece:
+                break
+            parts.append(piece)
+            got += len(piece)
+    return b"".join(parts)

@@ -42,7 +42,7 @@ from yaml.nodes import MappingNode, ScalarNode, SequenceNode
 
 from zsplan import units
 from zsplan.errors import Collector, PlanError, Problem
-from zsplan._runtime import gc_paused
+from zsplan._runtime import gc_paused, read_bounded
 from zsplan.model import (DEVICE_TYPES, EARTHING, MATERIALS, RUNS, TOPOLOGIES,
                           USES, Board, Cable, Circuit, Device, Drawing, Outlet,
                           Plan, Settings, SubMain, Supply, Where)
@@ -209,23 +209,6 @@ def _shown_name(path) -> str:
     return _shown(str(path))[1:-1] if isinstance(path, str) else _shown(repr(path))
 
 
-def _read_bounded(name: str, size: int, max_bytes: int) -> bytes:
-    """The file's bytes, at most ``max_bytes + 1`` of them.
-
-    Reads what ``stat`` reported, then on in 1 MB pieces only if the file
-    turns out longer (it grew, or it is a device), so memory follows the
-    file's size, not the limit.
-    """
-    with open(name, "rb") as fh:
-        parts = [fh.read(min(size, max_bytes) + 1)]
-        got = len(parts[0])
-        while got > size and got <= max_bytes:
-            piece = fh.read(min(1 << 20, max_bytes + 1 - got))
-            if not piece:
-                break
-            parts.append(piece)
-            got += len(piece)
-    return b"".join(parts)
 
 
 def _read_text(name: str, max_bytes: int) -> str:
@@ -252,7 +235,7 @@ def _read_text(name: str, max_bytes: int) -> str:
     if st.st_size > max_bytes:
         raise fail(f"the file is {st.st_size:,} bytes, {too_big}")
     try:
-        data = _read_bounded(name, st.st_size, max_bytes)
+        data = read_bounded(name, st.st_size, max_bytes)
     except OSError as exc:
         raise fail(f"cannot be read ({exc.strerror or exc}); {expected}") from None
     if len(data) > max_bytes:

@@ -41,6 +41,7 @@ from defusedxml import DefusedXmlException, EntitiesForbidden, ExternalReference
 from defusedxml.ElementTree import DefusedXMLParser
 
 from .errors import PlanError, Problem
+from ._runtime import read_bounded
 
 __all__ = [
     "MAX_BYTES",
@@ -184,18 +185,7 @@ def parse_svg(path, *, plan_file: str = "", max_bytes: int = MAX_BYTES) -> ET.El
     if size > max_bytes:
         raise _file_problem(name, plan_file, f"the file is {size:,} bytes, {too_big}")
     try:
-        with open(name, "rb") as fh:
-            # read what stat reported, then on in 1 MB pieces only if there is more
-            # (a device, a growing file): memory follows the file, not the limit
-            parts = [fh.read(min(size, max_bytes) + 1)]
-            got = len(parts[0])
-            while got > size and got <= max_bytes:
-                piece = fh.read(min(1 << 20, max_bytes + 1 - got))
-                if not piece:
-                    break
-                parts.append(piece)
-                got += len(piece)
-            data = b"".join(parts)
+        data = read_bounded(name, size, max_bytes)
     except OSError as exc:
         raise _file_problem(name, plan_file, f"cannot read the file ({exc.strerror})") from None
     if len(data) > max_bytes:

@@ -35,7 +35,7 @@ import numpy as np
 
 __all__ = [
     "ALPHA", "alpha_methods", "temperature_factor", "resistance_20c",
-    "csa_available", "check_conductor", "design_temperatures",
+    "csa_available", "check_conductor", "design_temperatures", "one_material",
 ]
 
 #: α per method and material [1/K].
@@ -48,6 +48,17 @@ ALPHA: dict[str, dict[str, float]] = {
 #: bunched with live conductors [°C]: BS 7671:2018 Table 54.2 initial
 #: temperature 30 °C.
 SEPARATE_CPC_TEMPERATURE_C = 30.0
+
+
+def one_material(material) -> str | None:
+    """The material of ``material`` when it is one string or an array of one value, else None."""
+    if np.ndim(material) == 0:
+        return str(material)
+    m = np.asarray(material)
+    if m.size == 0:
+        return None
+    first = m.flat[0]
+    return str(first) if bool(np.all(m == first)) else None
 
 
 def alpha_methods() -> list[str]:
@@ -85,8 +96,13 @@ def temperature_factor(theta_c, material="copper", method: str = "bs7671"):
     mat = np.asarray(material)
     if mat.ndim == 0:
         alpha = table[str(mat)]
-    else:
-        alpha = np.where(mat == "aluminium", table["aluminium"], table["copper"])
+        if theta.ndim == 0:
+            return 1.0 + alpha * (float(theta) - 20.0)
+        out = theta - 20.0
+        out *= alpha
+        out += 1.0
+        return out
+    alpha = np.where(mat == "aluminium", table["aluminium"], table["copper"])
     out = 1.0 + alpha * (theta - 20.0)
     return out if out.ndim else float(out)
 
@@ -141,18 +157,24 @@ def resistance_20c(csa_mm2, material="copper", conductor_class: int = 2):
     ValueError
         For a size that IEC 60228 does not list for the material.
     """
-    if np.ndim(material) == 0 or (isinstance(material, np.ndarray) and material.size and
-                                  np.all(material.ravel()[:1] == material)):
-        # one material (the usual case): a single sorted look-up
-        m = str(np.asarray(material).ravel()[0]) if np.ndim(material) else str(material)
+    m = one_material(material)
+    if m is not None:
+        # one material (the usual case): a single look-up in the table
         sizes, res = _table()[(m, conductor_class)]
         csa = np.asarray(csa_mm2, dtype=float)
-        idx = np.clip(np.searchsorted(sizes, csa), 0, len(sizes) - 1)
-        ok = np.abs(sizes[idx] - csa) <= 1e-9
-        if not np.all(ok):
-            raise ValueError(check_conductor(float(np.asarray(csa)[~ok].ravel()[0]), m, conductor_class))
-        out = res[idx]
-        return out if out.ndim else float(out)
+        if csa.ndim == 0:
+            idx = min(int(np.searchsorted(sizes + 1e-9, float(csa))), len(sizes) - 1)
+            if not abs(sizes[idx] - float(csa)) <= 1e-9:
+                raise ValueError(check_conductor(float(csa), m, conductor_class))
+            return float(res[idx])
+        idx = _size_index(sizes, csa, m, conductor_class)
+        out = np.take(sizes, idx, mode="wrap")
+        out -= csa
+        np.abs(out, out=out)
+        ok = out <= 1e-9
+        if not ok.all():
+            raise ValueError(check_conductor(float(csa[~ok].ravel()[0]), m, conductor_class))
+        return np.take(res, idx, out=out, mode="wrap")
     csa, mat = np.broadcast_arrays(np.asarray(csa_mm2, dtype=float), np.asarray(material))
     out = np.full(csa.shape, np.nan)
     for m in np.unique(mat):
@@ -166,6 +188,40 @@ def resistance_20c(csa_mm2, material="copper", conductor_class: int = 2):
             raise ValueError(check_conductor(float(bad), str(m), conductor_class))
         out[sel] = res[idx]
     return out if out.ndim else float(out)
+
+
+@functools.lru_cache(maxsize=None)
+def _dense(material: str, conductor_class: int):
+    """Sizes on a quarter-mm² grid: ``grid[round(4 csa)]`` is the index of that size, or -1.
+
+    Every IEC 60228 size is a whole number of quarter square millimetres
+    (0.5, 0.75, 1, 1.5, ...), so a csa finds its row by one rounding and one
+    look-up instead of a search.
+    """
+    sizes = _table()[(material, conductor_class)][0]
+    grid = np.full(int(round(4 * sizes[-1])) + 2, len(sizes) - 1, dtype=np.intp)
+    quarter = np.round(4 * sizes).astype(np.intp)
+    if np.all(np.abs(quarter - 4 * sizes) < 1e-9):
+        grid[:] = -1
+        grid[quarter] = np.arange(len(sizes))
+        return grid
+    return None
+
+
+def _size_index(sizes: np.ndarray, csa: np.ndarray, material: str, conductor_class: int) -> np.ndarray:
+    """Index of the tabulated size nearest each csa (to be checked by the caller)."""
+    grid = _dense(material, conductor_class)
+    if grid is None:            # a table off the quarter-mm² grid: sorted search
+        idx = np.searchsorted(sizes + 1e-9, csa)
+        np.minimum(idx, len(sizes) - 1, out=idx)
+        return idx
+    q = np.multiply(csa, 4.0)
+    np.rint(q, out=q)
+    np.clip(q, 0, len(grid) - 1, out=q)      # NaN stays NaN: caught by the check
+    with np.errstate(invalid="ignore"):
+        key = q.astype(np.intp)
+    np.clip(key, 0, len(grid) - 1, out=key)
+    return np.take(grid, key)             # -1 (off the grid) wraps to the last size: caught
 
 
 def design_temperatures(temp_rating_c, cpc_with_line):

@@ -462,6 +462,13 @@ def _circuit_lengths(plan: Plan, tol: float) -> list[CircuitLengths]:
         with np.errstate(divide="ignore", invalid="ignore"):
             along[o_use] = shapely.line_locate_point(geoms, opts)
             dist[o_use] = shapely.distance(geoms, opts)
+        # on a ring, a point projected onto the route's end (back at the
+        # board) may land an ulp short of it: snap it to the end, so that the
+        # way back round measures the same at any scale
+        ring_o = o_use & is_ring[out_owner]
+        s_route = route_m[out_owner[ring_o]]
+        a = along[ring_o]
+        along[ring_o] = np.where(np.abs(s_route - a) <= 1e-12 * s_route, s_route, a)
     for j in np.flatnonzero(o_use & ~(dist <= tol)):
         i, k = out_owner[j], out_k[j]
         add(i, f"{_label(circuits[i])}: outlet {out_name[j]!r} at "

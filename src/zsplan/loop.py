@@ -37,7 +37,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .conductors import design_temperatures, resistance_20c, temperature_factor
+from .conductors import design_temperatures, one_material, resistance_20c, temperature_factor
 from .protection import CurveSet, current_for_time, operating_time
 
 __all__ = [
@@ -118,6 +118,11 @@ def evaluate(*, length_m, line_mm2, cpc_mm2, ze_ohm, curves: CurveSet, curve_ind
     Every argument broadcasts to the common shape; ``curves`` and
     ``curve_index`` come from :meth:`zsplan.protection.CurveSet.from_devices`.
 
+    The formulas are those of the module docstring.  Ia and Zs,max depend
+    only on the device and the required time, so they are found once per
+    distinct (curve, time) pair and then looked up; the test-temperature
+    R1+R2 is the design R1+R2 scaled by R(θ_test)/R(θ_design).
+
     Returns
     -------
     dict of numpy.ndarray
@@ -126,34 +131,116 @@ def evaluate(*, length_m, line_mm2, cpc_mm2, ze_ohm, curves: CurveSet, curve_ind
         ``disconnect_limit_s``, ``ia_a``, ``zs_max_ohm``, ``zs_test_max_ohm``,
         ``margin``, ``line_c``, ``cpc_c``.
     """
-    r1 = resistance_20c(line_mm2, material)
-    r2 = resistance_20c(cpc_mm2, material)
-    line_c, cpc_c = design_temperatures(temp_rating_c, cpc_with_line)
-    f1 = temperature_factor(line_c, material, alpha)
-    f2 = temperature_factor(cpc_c, material, alpha)
-    ft = temperature_factor(test_temperature_c, material, alpha)
-    rr = r1r2(length_m, r1, r2, f1, f2, ring, spur_m)
-    rr_test = r1r2(length_m, r1, r2, ft, ft, ring, spur_m)
-    zs = np.asarray(ze_ohm, dtype=float) + rr
-    i_f = fault_current(ze_ohm, rr, u0_v, cmin)
-    t_req = np.broadcast_to(np.asarray(t_required_s, dtype=float), np.shape(zs))
-    ia = current_for_time(curves, curve_index, t_req)
-    zs_max = zs_limit(ia, u0_v, cmin)
-    ratio = (r1 * ft + r2 * ft) / (r1 * f1 + r2 * f2)
-    zs_test_max = test_zs_limit(zs_max, ze_ohm, ratio, test_limit)
-    shape = np.shape(zs)
+    if test_limit not in TEST_LIMIT_METHODS:
+        raise ValueError(f"unknown test-limit method {test_limit!r}; choose one of {TEST_LIMIT_METHODS}")
+    mat = one_material(material)
+    if mat is None:     # copper and aluminium mixed: per-element material
+        mat = np.asarray(material)
+    shape = np.broadcast_shapes(*(np.shape(a) for a in (
+        length_m, line_mm2, cpc_mm2, ze_ohm, curve_index, t_required_s, material, temp_rating_c,
+        cpc_with_line, ring, spur_m, u0_v, cmin, test_temperature_c)))
     b = lambda a: np.broadcast_to(np.asarray(a, dtype=float), shape)  # noqa: E731
+
+    # resistance per metre at the design temperature, and its test/design ratio
+    r1 = resistance_20c(line_mm2, mat)
+    r2 = resistance_20c(cpc_mm2, mat)
+    line_c, cpc_c = design_temperatures(temp_rating_c, cpc_with_line)
+    f1 = temperature_factor(line_c, mat, alpha)
+    ft = temperature_factor(test_temperature_c, mat, alpha)
+    if np.all(np.asarray(cpc_with_line)):      # cpc at the line's temperature
+        cpc_c = line_c
+        per_m = np.add(r1, r2)
+        per_m *= f1
+        ratio = np.divide(ft, f1)
+    else:
+        f2 = temperature_factor(cpc_c, mat, alpha)
+        per_m = np.multiply(r1, f1)
+        per_m += np.multiply(r2, f2)
+        ratio = np.add(r1, r2)
+        ratio *= ft
+        ratio /= per_m
+    per_m /= 1000.0
+
+    # R1+R2 over the run: a ring's worst point takes a quarter of the ring
+    length = np.asarray(length_m, dtype=float)
+    ring = np.asarray(ring, dtype=bool)
+    if ring.ndim == 0:
+        main = length / 4.0 if ring else length
+    elif ring.any():
+        main = np.array(np.broadcast_to(length, np.broadcast_shapes(length.shape, ring.shape)))
+        np.divide(main, 4.0, out=main, where=ring)
+    else:
+        main = length
+    spur = np.asarray(spur_m, dtype=float)
+    if spur.ndim or spur != 0.0:
+        main = main + spur
+    rr = np.multiply(per_m, main)
+    rr_test = np.multiply(rr, ratio)
+    zs = np.add(ze_ohm, rr)
+    i_f = fault_current(ze_ohm, rr, u0_v, cmin) if np.ndim(u0_v) or np.ndim(cmin) else \
+        np.divide(float(cmin) * float(u0_v), zs)
+
+    ia, zs_max, zs_test_max = _limits(curves, curve_index, t_required_s, u0_v, cmin, test_limit,
+                                      ze_ohm, ratio, shape)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        m = np.asarray(np.divide(zs, zs_max))
+        np.subtract(1.0, m, out=m)
+    off = np.asarray(zs_max) <= 0
+    if off.any():
+        m = np.where(off, -np.inf, m)
     return {
         "r1r2_ohm": b(rr),
         "r1r2_test_ohm": b(rr_test),
-        "zs_ohm": zs,
+        "zs_ohm": b(zs),
         "fault_current_a": b(i_f),
         "disconnect_s": b(operating_time(curves, curve_index, i_f)),
-        "disconnect_limit_s": b(t_req),
+        "disconnect_limit_s": b(t_required_s),
         "ia_a": b(ia),
         "zs_max_ohm": b(zs_max),
         "zs_test_max_ohm": b(zs_test_max),
-        "margin": b(margin(zs, zs_max)),
+        "margin": b(m),
         "line_c": b(line_c),
         "cpc_c": b(cpc_c),
     }
+
+
+def _limits(curves: CurveSet, curve_index, t_required_s, u0_v, cmin, test_limit, ze_ohm, ratio, shape):
+    """Ia, Zs,max and the test limit of every circuit.
+
+    Ia(t) is found once for each distinct (curve, required time) pair, by
+    :func:`zsplan.protection.current_for_time`, and looked up: the required
+    time takes few values (0.4 s, 5 s, ...), so the table is small.
+    """
+    idx = np.broadcast_to(np.asarray(curve_index, dtype=np.intp), shape)
+    t = np.broadcast_to(np.asarray(t_required_s, dtype=float), shape)
+    k_n = curves.size
+    values = code = None
+    if t.size == 0:
+        values, code = np.zeros(1), 0
+    else:
+        lo, hi = t.min(), t.max()
+        if lo == hi or not np.isfinite(lo) or not np.isfinite(hi):
+            if lo == hi:
+                values, code = np.array([lo]), 0
+        else:
+            upper = t == hi
+            if np.count_nonzero(upper) + np.count_nonzero(t == lo) == t.size:
+                values, code = np.array([lo, hi]), upper
+    if values is None:      # many distinct times, or NaN among them
+        values, code = np.unique(t, return_inverse=True)
+        code = code.reshape(shape)
+    table_curve = np.repeat(np.arange(k_n), len(values))
+    table_time = np.tile(values, k_n)
+    ia_table = current_for_time(curves, table_curve, table_time)
+    slot = idx * len(values)
+    if not np.isscalar(code) or code != 0:
+        slot = slot + code
+    ia = np.take(ia_table, slot, mode="clip")
+    if np.ndim(u0_v) == 0 and np.ndim(cmin) == 0:
+        zs_table = zs_limit(ia_table, u0_v, cmin)
+        zs_max = np.take(zs_table, slot, mode="clip")
+        if test_limit == "rule-of-0.8":
+            return ia, zs_max, np.take(test_zs_limit(zs_table), slot, mode="clip")
+    else:
+        zs_max = zs_limit(ia, u0_v, cmin)
+    return ia, zs_max, test_zs_limit(zs_max, ze_ohm, ratio, test_limit)

@@ -188,7 +188,13 @@ class Plan:
     extra: dict = field(default_factory=dict, compare=False, hash=False)
 
     def board(self, ref: str) -> Board:
-        for b in self.boards:
-            if b.ref == ref:
-                return b
-        raise KeyError(ref)
+        index = self.__dict__.get("_board_index")
+        if index is None:      # built once (a frozen dataclass: set through __dict__)
+            index = {}
+            for b in self.boards:
+                index.setdefault(b.ref, b)
+            self.__dict__["_board_index"] = index
+        try:
+            return index[ref]
+        except KeyError:
+            raise KeyError(ref) from None

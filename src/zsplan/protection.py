@@ -243,6 +243,37 @@ class CurveSet:
             self.log_t = np.log(self.tim)     # padding: -inf
         self.width = n
         self.curves = tuple(curves)
+        self._segments = None
+
+    def segments(self):
+        """Flat look-up tables for :func:`operating_time`, built on first use.
+
+        Slot ``j`` of curve ``k`` (at ``k * (width + 1) + j``) holds the
+        segment that starts at the curve's point ``j - 1``, for a current at or
+        above exactly ``j`` of the curve's points: its first time ``t0`` [s],
+        its first log current ``x0`` and its log-log slope ``s``, so that
+        ``t = t0 * exp(s * (log I - x0))``.  Slot 0 (below the first point)
+        holds ``t0 = inf``; slots from ``npts`` on (beyond the last point) hold
+        the last time with ``s = 0``.  Returns ``(t0, x0, s, columns)``, with
+        ``columns`` the curves' log currents column by column.
+        """
+        if getattr(self, "_segments", None) is None:
+            k_n, w = self.size, self.width
+            t0 = np.full((k_n, w + 1), np.inf)
+            x0 = np.zeros((k_n, w + 1))
+            slope = np.zeros((k_n, w + 1))
+            for k in range(k_n):
+                n = int(self.npts[k])
+                li, lt = self.log_i[k, :n], self.log_t[k, :n]
+                di = np.diff(li)
+                t0[k, 1:n] = self.tim[k, : n - 1]
+                x0[k, 1:n] = li[:-1]
+                # a vertical step (equal currents) is never selected: no slope
+                slope[k, 1:n] = np.where(di != 0, np.diff(lt) / np.where(di != 0, di, 1.0), 0.0)
+                t0[k, n:] = self.tim[k, n - 1]
+            self._segments = (t0.ravel(), x0.ravel(), slope.ravel(),
+                              [np.ascontiguousarray(c) for c in self.log_i.T])
+        return self._segments
 
     @classmethod
     def from_devices(cls, devices: Iterable) -> tuple["CurveSet", np.ndarray]:
@@ -275,13 +306,36 @@ def operating_time(curves: CurveSet, index, current_a):
         beyond the last point.
     """
     index = np.asarray(index, dtype=np.intp)
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore"):
         x = np.log(np.asarray(current_a, dtype=float))
     x, index = np.broadcast_arrays(x, index)
-    n = curves.npts[index]
-    below = np.inf
-    beyond = curves.tim.ravel()[index * curves.width + n - 1]
-    return _walk(x, index, curves.log_i, False, curves.tim, curves.log_t, n, below, beyond)
+    shape = x.shape
+    x, index = x.reshape(-1), index.reshape(-1)
+    t0, x0, slope, columns = curves.segments()
+    # j: how many of the curve's points lie at or below the query, counted
+    # column by column into small reused buffers (no N x P table)
+    buf = np.empty(x.shape)
+    hit = np.empty(x.shape, dtype=bool)
+    j = np.zeros(x.shape, dtype=np.int8 if curves.width < 127 else np.intp)
+    for col in columns:
+        np.take(col, index, out=buf, mode="clip")
+        np.less_equal(buf, x, out=hit)
+        j += hit
+    slot = index * (curves.width + 1)
+    slot += j
+    # t = t0 exp(s (x - x0)) on the slot's segment (exact at the points)
+    np.take(x0, slot, out=buf, mode="clip")
+    with np.errstate(invalid="ignore", over="ignore"):
+        np.subtract(x, buf, out=buf)
+        other = np.take(slope, slot, mode="clip")
+        buf *= other
+        np.exp(buf, out=buf)
+        np.take(t0, slot, out=other, mode="clip")
+        buf *= other
+    odd = ~np.isfinite(x)
+    if odd.any():     # log I = -inf or nan: below the curve; +inf: beyond it
+        buf[odd] = other[odd]
+    return buf.reshape(shape)
 
 
 def current_for_time(curves: CurveSet, index, time_s):

@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ._runtime import gc_paused
 from .geometry import CircuitLengths
 from .model import Plan
 
@@ -107,6 +108,17 @@ class Results:
         subs = self.submains.get("status", np.zeros(0))
         return bool(np.any(self.status == "fail") or np.any(subs == "fail"))
 
+    def _points_of(self, i: int) -> np.ndarray:
+        """Indices of circuit ``i``'s points (one sort for all circuits, then slices)."""
+        cache = self.__dict__.get("_point_slices")
+        if cache is None:
+            owner = np.asarray(self.points["circuit"], dtype=np.intp)
+            order = np.argsort(owner, kind="stable")
+            bounds = np.searchsorted(owner[order], np.arange(len(self.plan.circuits) + 1))
+            cache = self.__dict__["_point_slices"] = (order, bounds)
+        order, bounds = cache
+        return order[bounds[i]:bounds[i + 1]]
+
     def circuit_record(self, i: int) -> dict:
         """The JSON record of circuit ``i`` (contract fields, safely rounded)."""
         c = self.plan.circuits[i]
@@ -132,7 +144,7 @@ class Results:
         if "disconnection_by" in a:
             rec["disconnection_by"] = str(a["disconnection_by"][i])
         pts = self.points
-        sel = np.nonzero(pts["circuit"] == i)[0]
+        sel = self._points_of(i)
         rec["points"] = [
             {"name": str(pts["name"][k]),
              "length_m": safe_round("length_m", float(pts["length_m"][k])),
@@ -165,7 +177,9 @@ class Results:
         sub-main checked as a distribution circuit), in order from the origin.
         """
         subs = [self.submain_record(i) for i in range(len(self.submains.get("boards", ())))]
+        with gc_paused():          # many small records, no reference cycles
+            records = [self.circuit_record(i) for i in range(len(self.plan.circuits))]
         return {"zsplan": 1, "plan": self.plan.path,
-                "circuits": [self.circuit_record(i) for i in range(len(self.plan.circuits))],
+                "circuits": records,
                 "submains": subs,
                 "summary": self.summary()}

@@ -56,8 +56,8 @@ def test_display_rounding_never_turns_a_fail_into_a_pass(zs, zs_max):
 
 
 def test_exact_decimals_stay_put():
-    assert safe_round("zs_max_ohm", 1.37) == 1.37       # a published limit is not nudged down
-    assert safe_round("disconnect_s", 0.4) == 0.4
+    assert safe_round("zs_max_ohm", 1.37) == 1.37       # B32 limit, BS 7671:2018 Table 41.3: not nudged down
+    assert safe_round("disconnect_s", 0.4) == 0.4       # BS 7671:2018 Table 41.1 time
     assert safe_round("zs_ohm", 1.36562) == 1.3657
     assert safe_round("zs_max_ohm", 1.365625) == 1.3656
     assert safe_round("margin", float("-inf")) is None

@@ -11,7 +11,8 @@ Method (vectorised, never all pairs):
 1. candidate pairs: the routes are cut into their straight segments, and one
    ``shapely.STRtree`` over the segments [2]_, queried with each segment's
    box grown by ``distance_m``, returns only segments that may come within
-   ``distance_m`` of each other;
+   ``distance_m`` of each other; the segments are taken in batches of whole
+   routes, so the pairs held at once stay bounded on a large plan;
 2. for each candidate pair of segments (p on route a, q on route b), the
    part of p within ``distance_m`` of q, in closed form: the distance from
    :math:`P(t) = P_0 + tD` to the segment q is a convex function of t, so the
@@ -61,6 +62,8 @@ DEFAULT_MIN_LENGTH_M = 0.5
 
 #: Gap along a route below which two intervals are one run (rounding at vertices). [m]
 _JOIN_M = 1e-9
+#: Segments taken together in :func:`shared_runs` (bounds the candidate pairs held at once).
+_BATCH_SEGMENTS = 8192
 
 
 @dataclass(frozen=True)
@@ -198,6 +201,10 @@ def shared_runs(lines, distance_m=DEFAULT_DISTANCE_M, min_length_m=DEFAULT_MIN_L
                 level=None) -> SharedRuns:
     """Where routes run within ``distance_m`` of each other for ``min_length_m`` or more.
 
+    The routes are taken a few thousand segments at a time (whole routes in
+    each batch), so the candidate pairs held at once stay bounded however
+    large the plan: time and memory grow with the number of routes.
+
     Parameters
     ----------
     lines : array-like of shapely.LineString or None
@@ -213,6 +220,7 @@ def shared_runs(lines, distance_m=DEFAULT_DISTANCE_M, min_length_m=DEFAULT_MIN_L
     Returns
     -------
     SharedRuns
+        Sorted by route a, then route b, then start.
     """
     lines = np.asarray(lines, dtype=object)
     dist = float(distance_m)
@@ -234,51 +242,97 @@ def shared_runs(lines, distance_m=DEFAULT_DISTANCE_M, min_length_m=DEFAULT_MIN_L
     s0, s1, sown, seg_len, seg_along = s0[keep], s1[keep], sown[keep], seg_len[keep], seg_along[keep]
     if sown.size < 2:
         return _EMPTY
-    segs = shapely.linestrings(np.stack([s0, s1], axis=1))
-    lo_xy, hi_xy = np.minimum(s0, s1), np.maximum(s0, s1)
-    boxes = shapely.box(lo_xy[:, 0] - dist, lo_xy[:, 1] - dist, hi_xy[:, 0] + dist, hi_xy[:, 1] + dist)
-    qi, qj = shapely.STRtree(segs).query(boxes)          # box overlap only: cheap
-    pick = sown[qi] != sown[qj]
-    if level is not None:
-        lv = np.asarray(level, dtype=object)
-        pick &= lv[sown[qi]] == lv[sown[qj]]
-    qi, qj = qi[pick], qj[pick]
-    t0, t1, ok = segment_within(s0[qi], s1[qi], s0[qj], s1[qj], dist)
-    qi, qj, t0, t1 = qi[ok], qj[ok], t0[ok], t1[ok]
-    if qi.size == 0:
+    tree = shapely.STRtree(shapely.linestrings(np.stack([s0, s1], axis=1)))
+    lo_xy, hi_xy = np.minimum(s0, s1) - dist, np.maximum(s0, s1) + dist
+    code = None if level is None else _level_codes(level)
+    # batches of whole routes (sown is sorted): every run of route a comes from one batch
+    cuts = np.unique(np.r_[np.searchsorted(sown, sown[::_BATCH_SEGMENTS], side="left"), sown.size])
+    parts = []
+    for c0, c1 in zip(cuts[:-1], cuts[1:]):
+        boxes = shapely.box(lo_xy[c0:c1, 0], lo_xy[c0:c1, 1], hi_xy[c0:c1, 0], hi_xy[c0:c1, 1])
+        qi, qj = tree.query(boxes)                   # box overlap only: cheap
+        qi += c0
+        a, b = sown[qi], sown[qj]
+        pick = a != b
+        if code is not None:
+            pick &= code[a] == code[b]
+        qi, qj = qi[pick], qj[pick]
+        if qi.size == 0:
+            continue
+        t0, t1, ok = segment_within(s0[qi], s1[qi], s0[qj], s1[qj], dist)
+        qi, qj, t0, t1 = qi[ok], qj[ok], t0[ok], t1[ok]
+        if qi.size:
+            parts.append(_merge_runs(sown[qi], sown[qj], seg_along[qi] + t0 * seg_len[qi],
+                                     seg_along[qi] + t1 * seg_len[qi], float(min_length_m)))
+    if not parts:
         return _EMPTY
-    a, b = sown[qi], sown[qj]
-    start = seg_along[qi] + t0 * seg_len[qi]
-    end = seg_along[qi] + t1 * seg_len[qi]
-    # merge the intervals of each (a, b) into continuous runs
+    return SharedRuns(*(np.concatenate(x) for x in zip(*parts)))
+
+
+def _level_codes(level) -> np.ndarray:
+    """An integer per route, equal where the (string) labels are equal; other labels as given."""
+    lv = np.asarray(level, dtype=object)
+    if not all(isinstance(x, str) for x in lv):
+        return lv                                    # compared as given, with ==
+    codes: dict = {}
+    return np.array([codes.setdefault(x, len(codes)) for x in lv], dtype=np.intp)
+
+
+def _merge_runs(a, b, start, end, min_length):
+    """Intervals (start, end) of route a alongside route b merged into runs of ``min_length`` or more."""
     order = np.lexsort((start, b, a))
     a, b, start, end = a[order], b[order], start[order], end[order]
     pair_new = np.r_[True, (a[1:] != a[:-1]) | (b[1:] != b[:-1])]
-    pair_id = np.cumsum(pair_new) - 1
-    span = float(np.max(end)) + 1.0
-    reach = np.maximum.accumulate(end + pair_id * span) - pair_id * span    # running max end per pair
+    reach = _running_max(end, pair_new)              # furthest end so far, per pair
     run_new = pair_new | np.r_[True, start[1:] > reach[:-1] + _JOIN_M]
-    r_start = start[run_new]
-    r_end = np.maximum.reduceat(end, np.flatnonzero(run_new))
-    long = (r_end - r_start) >= float(min_length_m)
-    heads = np.flatnonzero(run_new)[long]
-    return SharedRuns(a[heads], b[heads], r_start[long], r_end[long])
+    heads = np.flatnonzero(run_new)
+    r_start = start[heads]
+    r_end = np.maximum.reduceat(end, heads)
+    long = (r_end - r_start) >= min_length
+    return a[heads[long]], b[heads[long]], r_start[long], r_end[long]
+
+
+def _running_max(values, restart):
+    """Running maximum of ``values``, starting afresh where ``restart`` is True (exact).
+
+    Each value is replaced by its rank, offset by its segment's number times
+    the count, so one ``np.maximum.accumulate`` over integers serves every
+    segment without rounding.
+    """
+    m = values.size
+    ranked = np.sort(values)
+    seg = (np.cumsum(restart) - 1).astype(np.int64) * m
+    top = np.maximum.accumulate(seg + np.searchsorted(ranked, values))
+    return ranked[top - seg]
 
 
 def _components(n: int, u: np.ndarray, v: np.ndarray) -> np.ndarray:
-    """Connected-component label of each of n nodes given edges (u, v)."""
+    """Connected-component label of each of n nodes given edges (u, v): its least node.
+
+    A forest in which every node points to a smaller one: each round hooks
+    the larger root of every edge whose ends have different roots onto the
+    smaller, then jumps pointers until every node points at its root.
+    """
     label = np.arange(n)
-    if u.size == 0:
-        return label
-    while True:
-        m = np.minimum(label[u], label[v])
-        new = label.copy()
-        np.minimum.at(new, u, m)
-        np.minimum.at(new, v, m)
-        new = new[new]                      # pointer jumping
-        if np.array_equal(new, label):
-            return label
-        label = new
+    while u.size:
+        lu, lv = label[u], label[v]
+        differ = lu != lv
+        if not differ.any():
+            break
+        u, v, lu, lv = u[differ], v[differ], lu[differ], lv[differ]
+        np.minimum.at(label, np.maximum(lu, lv), np.minimum(lu, lv))
+        while True:                                  # pointer jumping
+            up = label[label]
+            if np.array_equal(up, label):
+                break
+            label = up
+    return label
+
+
+def _is_sorted(a, b, s) -> bool:
+    """Whether rows are in (a, b, s) order."""
+    da, db = np.diff(a), np.diff(b)
+    return bool(np.all((da > 0) | ((da == 0) & ((db > 0) | ((db == 0) & (s[1:] >= s[:-1]))))))
 
 
 def group_sizes(lines, distance_m=DEFAULT_DISTANCE_M, min_length_m=DEFAULT_MIN_LENGTH_M,
@@ -327,14 +381,17 @@ def group_sizes(lines, distance_m=DEFAULT_DISTANCE_M, min_length_m=DEFAULT_MIN_L
     if k == 0:
         return size
     # runs sorted by (route, partner, start), for look-ups
-    order = np.lexsort((runs.start_m, runs.b, runs.a))
-    A, B, S, E = runs.a[order], runs.b[order], runs.start_m[order], runs.end_m[order]
+    A, B, S, E = runs.a, runs.b, runs.start_m, runs.end_m
+    if not _is_sorted(A, B, S):                     # as shared_runs gives them, or sort
+        order = np.lexsort((S, B, A))
+        A, B, S, E = A[order], B[order], S[order], E[order]
     # 1. the run of a along b meets the run of b along a containing the point of b
     #    nearest the middle of a's run
     mid = shapely.line_interpolate_point(lines[A], (S + E) / 2.0)
     u = shapely.line_locate_point(lines[B], mid)
     pk = _pair_key(A, B, n)
-    pairs, rank = np.unique(pk, return_inverse=True)
+    pair_new = np.r_[True, pk[1:] != pk[:-1]]        # pk is sorted
+    pairs, rank = pk[pair_new], np.cumsum(pair_new) - 1
     span = float(np.max(E)) + 1.0
     composite = rank + S / span                       # sorted: by pair, then by start
     mk = _pair_key(B, A, n)

@@ -143,3 +143,35 @@ def test_count_overlaps():
     assert count_overlaps([a, b]) == 1
     assert count_overlaps([a, c]) == 0
     assert count_overlaps([a], obstacles=[b, c]) == 1
+
+
+# --- label budget for dense sheets -------------------------------------------
+
+def test_budget_spent_leaves_the_remaining_labels_out():
+    route = ((0, 50), (100, 50))
+    specs = [LabelSpec("first", "X" * 10, route), LabelSpec("second", "X" * 10, route)]
+    # hand-worked: one 100 mm segment, box ~19 mm wide < 100 mm, so the first font
+    # tries 7 positions along x 2 sides = 14 boxes, and the first of them is free
+    (a,) = place_labels(specs, bounds=(0, 0, 200, 200), budget=14)
+    assert a.key == "first" and a.leader is None and a.collisions == 0
+    assert place_labels(specs, bounds=(0, 0, 200, 200), budget=0) == []
+    # a budget that is not spent changes nothing
+    assert place_labels(specs, bounds=(0, 0, 200, 200), budget=10_000) == \
+        place_labels(specs, bounds=(0, 0, 200, 200))
+
+
+def test_with_a_budget_a_label_with_no_place_is_left_out_not_overlapped():
+    spec = LabelSpec("E", "a rather long label that cannot fit", ((1, 1), (3, 1)))
+    assert place_labels([spec], bounds=(0, 0, 4, 2), budget=10_000) == []
+    assert place_labels([spec], bounds=(0, 0, 4, 2), leader_cap=10_000) == []
+
+
+def test_leader_cap_bounds_the_leader_search():
+    route = ((50, 50), (60, 50))
+    walls = [box(0, 40, 100, 49), box(0, 51, 100, 60)]
+    spec = LabelSpec("D", "CU1/4 · 3.0 m · Zs 0.40/1.36 Ω", route)
+    free = place_labels([spec], obstacles=walls, bounds=(0, 0, 200, 200))
+    capped = place_labels([spec], obstacles=walls, bounds=(0, 0, 200, 200), leader_cap=10**6)
+    assert capped == free and capped[0].leader is not None
+    # no candidate allowed in the leader search: the label cannot sit along the route
+    assert place_labels([spec], obstacles=walls, bounds=(0, 0, 200, 200), leader_cap=0) == []

@@ -498,3 +498,30 @@ def test_schedule_paginates_and_keeps_every_circuit_once(dense):
         assert f"Sheet {n} of {len(pages)}" in page
         assert root.find(f".//{NS}g[@id='zs-caution']") is not None
     assert keys == [f"{c.board}/{c.ref}" for c in dense.plan.circuits]
+
+
+def test_dense_sheet_label_budget_lists_the_labels_left_out(dense, monkeypatch):
+    import zsplan.render as R
+    monkeypatch.setattr(R, "DENSE_LABELS", 1)       # treat the 30-circuit plan as dense
+    monkeypatch.setattr(R, "LABEL_BUDGET", 300)     # room for only a few labels
+    svg = render_svg(dense, sheet="A4")
+    assert render_svg(dense, sheet="A4") == svg     # deterministic
+    root = parse(svg)
+    polys = _label_polygons(root)
+    labelled = {g.get("data-circuit") for g, _ in polys}
+    note = root.find(f".//{NS}g[@id='zs-unlabelled']")
+    assert note is not None
+    keys = [f"{c.board}/{c.ref}" for c in dense.plan.circuits]
+    left_out = [k for k in keys if k not in labelled]
+    assert 0 < len(polys) < 30 and int(note.get("data-count")) == len(left_out)
+    text = "".join(note.itertext())
+    assert text.startswith("Not labelled on the plan")
+    shown = re.findall(r"[\w-]+/[\w-]+", text)
+    assert shown and set(shown) <= set(left_out) and len(set(shown)) == len(shown)
+    assert count_overlaps([p for _, p in polys], _symbol_boxes(root)) == 0
+    # every route is still drawn
+    assert len(routes_of(root)) == 30
+
+
+def test_sparse_sheet_has_no_unlabelled_note(demo_svg):
+    assert "zs-unlabelled" not in demo_svg

@@ -134,6 +134,20 @@ def label_polygon(cx: float, cy: float, width: float, height: float, angle_deg: 
     return Polygon(pts)
 
 
+def label_polygons(cx, cy, width: float, height: float, angle_deg) -> np.ndarray:
+    """:func:`label_polygon` of many centres (and angles) at once, as an array of polygons."""
+    cx, cy, angle = np.broadcast_arrays(np.asarray(cx, float), np.asarray(cy, float),
+                                        np.asarray(angle_deg, float))
+    a = np.radians(angle)
+    ux, uy = np.cos(a), np.sin(a)
+    nx, ny = -uy, ux
+    hw, hh = width / 2.0, height / 2.0
+    corners = [(sx, sy) for sx, sy in ((-1, -1), (1, -1), (1, 1), (-1, 1), (-1, -1))]
+    xy = np.stack([np.stack([cx + sx * hw * ux + sy * hh * nx, cy + sx * hw * uy + sy * hh * ny], axis=-1)
+                   for sx, sy in corners], axis=-2)
+    return shapely.polygons(xy)
+
+
 @dataclass(frozen=True)
 class LabelSpec:
     """A label to place.
@@ -208,6 +222,7 @@ _ALONG = (0.5, 0.35, 0.65, 0.2, 0.8, 0.05, 0.95)
 _MAX_SEGMENTS = 6
 LEADER_STEP = 3.0    # mm between rings of leader positions; zsplan layout choice
 LEADER_RINGS = 30
+_LEADER_CHUNK = 32   # leaders checked at a time, best first (the result is the same)
 
 
 def _box_size(spec: LabelSpec, fs: float, prefix: float) -> tuple[float, float]:
@@ -260,10 +275,32 @@ class _Field:
         self.bounds = box(*bounds) if bounds is not None else None
         self.lines = list(lines)
         self.line_tree = STRtree(self.lines) if self.lines else None
+        self._snap: dict = {}
 
-    def tree(self, leaders: bool = True):
-        geoms = self.fixed + self.placed + (self.leaders if leaders else [])
-        return (STRtree(geoms), geoms) if geoms else (None, geoms)
+    #: labels and leaders placed since the big tree was built that are
+    #: searched in a small tree of their own; past this many the big tree is
+    #: rebuilt (rebuilding it for every label made n labels cost ~ n^2)
+    REBUILD_EVERY = 256
+
+    def _trees(self, leaders: bool):
+        """Trees over everything placed so far: a big one, rebuilt now and then, and a small one."""
+        n_p, n_l = len(self.placed), (len(self.leaders) if leaders else 0)
+        snap = self._snap.get(leaders)
+        if snap is None or (n_p - snap[1]) + (n_l - snap[2]) > self.REBUILD_EVERY:
+            geoms = self.fixed + self.placed + (self.leaders if leaders else [])
+            snap = self._snap[leaders] = (STRtree(geoms) if geoms else None, n_p, n_l)
+        big, sp, sl = snap
+        newer = self.placed[sp:] + (self.leaders[sl:] if leaders else [])
+        return [t for t in (big, STRtree(newer) if newer else None) if t is not None]
+
+    def hits(self, geoms, predicate: str = "intersects", leaders: bool = True) -> np.ndarray:
+        """Per geometry, how many placed labels, symbols (and leaders) it meets."""
+        arr = np.asarray(geoms, dtype=object)
+        count = np.zeros(len(arr), dtype=int)
+        for tree in self._trees(leaders):
+            pairs = tree.query(arr, predicate=predicate)
+            np.add.at(count, pairs[0], 1)
+        return count
 
     def evaluate(self, polys):
         """Hard collision count and soft route-crossing count per polygon."""
@@ -273,10 +310,7 @@ class _Field:
         if n == 0:
             return hard, soft
         arr = np.array(polys, dtype=object)
-        tree, geoms = self.tree()
-        if tree is not None:
-            pairs = tree.query(arr, predicate="intersects")
-            np.add.at(hard, pairs[0], 1)
+        hard += self.hits(arr)
         if self.bounds is not None:
             hard += ~shapely.contains(self.bounds, arr)
         if self.line_tree is not None:
@@ -288,7 +322,8 @@ class _Field:
 def _choose(field: _Field, cands, w, h):
     if not cands:
         return None
-    polys = [label_polygon(cx, cy, w, h, a) for cx, cy, a, _ in cands]
+    c = np.asarray([(cx, cy, a) for cx, cy, a, _ in cands], dtype=float).reshape(-1, 3)
+    polys = label_polygons(c[:, 0], c[:, 1], w, h, c[:, 2])
     hard, soft = field.evaluate(polys)
     score = np.array([c[3] for c in cands]) + 1.5 * soft
     free = np.nonzero(hard == 0)[0]
@@ -314,7 +349,8 @@ def _nearest_on_box(poly: Polygon, x, y):
     return (p.x, p.y)
 
 
-def place_labels(specs, *, obstacles=(), bounds=None, lines=()) -> list[Placement]:
+def place_labels(specs, *, obstacles=(), bounds=None, lines=(), budget=None,
+                 leader_cap=None) -> list[Placement]:
     """Place labels one after the other, each clear of what came before.
 
     Parameters
@@ -327,15 +363,31 @@ def place_labels(specs, *, obstacles=(), bounds=None, lines=()) -> list[Placemen
         Every label must lie inside this box. [mm]
     lines : sequence of shapely geometries
         The routes: labels prefer not to cross them (soft). [mm]
+    budget : int, optional
+        For dense sheets: the most candidate boxes tried for all labels
+        together (along the routes and round them for a leader).  With a
+        budget (or a ``leader_cap``) a label that finds no free place is left
+        out rather than placed over others or given a leader through other
+        labels, and once the budget is spent the remaining labels are left
+        out.  Default None: no limit.
+    leader_cap : int, optional
+        The most candidate boxes tried in the leader search of one label
+        (whole rings of positions only).  Default None: every ring.
 
     Returns
     -------
     list of Placement
-        In the order of ``specs``.
+        In the order of ``specs``; a label left out (a route of one point, or
+        no place within the budget) has none.  The same input gives the same
+        result.
     """
     field = _Field(obstacles, bounds, lines)
     placed: list[Placement] = []
+    limited = budget is not None or leader_cap is not None
+    left = math.inf if budget is None else int(budget)
     for spec in specs:
+        if left <= 0:
+            continue
         result = None
         fonts = [spec.font_size]
         smaller = max(MIN_FONT, spec.font_size * SMALLER)
@@ -344,6 +396,7 @@ def place_labels(specs, *, obstacles=(), bounds=None, lines=()) -> list[Placemen
         first = None
         for fs in fonts:
             cands, w, h, prefix = _along_candidates(spec, fs)
+            left -= len(cands)
             got = _choose(field, cands, w, h)
             if got is None:
                 continue
@@ -355,11 +408,15 @@ def place_labels(specs, *, obstacles=(), bounds=None, lines=()) -> list[Placemen
                 result = Placement(spec.key, spec.text, cx, cy, a, w, h, fs, prefix)
                 field.placed.append(polys[idx])
                 break
-        if result is None:
-            result = _place_with_leader(field, spec, fonts[-1])
-        if result is None:
-            result = _place_with_leader(field, spec, fonts[-1], strict=False)
-        if result is None and first is not None:
+        cap = math.inf if leader_cap is None else int(leader_cap)
+        # with a budget, no leader through other labels (the label is left out instead)
+        for strict in ((True,) if limited else (True, False)):
+            if result is None:
+                result, used = _place_with_leader(field, spec, fonts[-1], strict=strict,
+                                                  cap=min(cap, left))
+                left -= used
+                cap -= used
+        if result is None and first is not None and not limited:
             cands, polys, hard, w, h, fs, prefix = first
             score = np.array([c[3] for c in cands]) + 10.0 * hard
             i = int(np.lexsort((np.arange(len(cands)), score))[0])
@@ -385,54 +442,68 @@ def _anchors(pts: np.ndarray) -> list[tuple[float, float]]:
     return out
 
 
-def _place_with_leader(field: _Field, spec: LabelSpec, fs: float, strict: bool = True):
+def _place_with_leader(field: _Field, spec: LabelSpec, fs: float, strict: bool = True,
+                       cap=math.inf):
     """A horizontal label near the route, joined to it by a leader line.
 
     Label positions lie on rings round points of the route's longest
     segments, nearest ring first.  The box must be free; with ``strict`` the
     leader must not run through a label or symbol either (it may cross other
-    leaders); without, the leader crossing fewest labels is taken.
+    leaders); without, the leader crossing fewest labels is taken.  At most
+    ``cap`` candidate boxes are tried (whole rings only).
+
+    Returns ``(placement or None, number of candidate boxes tried)``.
     """
     pts = np.asarray(spec.route, dtype=float)
     if len(pts) < 2:
-        return None
+        return None, 0
     prefix = spec.prefix * fs / spec.font_size
     w, h = _box_size(spec, fs, prefix)
-    tree, _ = field.tree(leaders=False)
     anchors_all = _anchors(pts)
+    used = 0
     for ring in range(1, LEADER_RINGS + 1):
+        if used + 16 * len(anchors_all) > cap:
+            break
+        used += 16 * len(anchors_all)
         cands, anchors = [], []
         for rank, anchor in enumerate(anchors_all):
             for c in _leader_ring(anchor, w, h, ring):
                 cands.append((c[0], c[1], c[2], c[3] + 0.1 * rank))
                 anchors.append(anchor)
-        polys = [label_polygon(cx, cy, w, h, 0.0) for cx, cy, _, _ in cands]
+        c = np.asarray([(cx, cy) for cx, cy, _, _ in cands], dtype=float).reshape(-1, 2)
+        polys = label_polygons(c[:, 0], c[:, 1], w, h, 0.0)
         hard, soft = field.evaluate(polys)
         ok = np.nonzero(hard == 0)[0]
         if not len(ok):
             continue
-        ends = [_nearest_on_box(polys[k], *anchors[k]) for k in ok]
-        leaders = [LineString([anchors[k], e]) for k, e in zip(ok, ends)]
-        crossings = np.zeros(len(ok), dtype=int)
-        if tree is not None:
-            pairs = tree.query(np.array(leaders, dtype=object), predicate="crosses")
-            np.add.at(crossings, pairs[0], 1)
         score = np.array([cands[k][3] for k in ok]) + 1.5 * soft[ok]
-        if strict:
-            free = np.nonzero(crossings == 0)[0]
-            if not len(free):
-                continue
-        else:
-            free = np.arange(len(ok))
-            score = score + 5.0 * crossings
-        j = int(free[np.lexsort((free, score[free]))[0]])
+        order = np.lexsort((np.arange(len(ok)), score))     # best first; ties: first candidate
+        # leaders are built and checked lazily, best first, a chunk at a time
+        chunk = _LEADER_CHUNK if strict else len(order)
+        j = end = line = None
+        for start in range(0, len(order), chunk):
+            js = order[start:start + chunk]
+            ends = [_nearest_on_box(polys[ok[i]], *anchors[ok[i]]) for i in js]
+            lines = [LineString([anchors[ok[i]], e]) for i, e in zip(js, ends)]
+            crossings = field.hits(np.array(lines, dtype=object), "crosses", leaders=False)
+            if strict:
+                free = np.nonzero(crossings == 0)[0]
+                if not len(free):
+                    continue
+                t = int(free[0])
+            else:
+                t = int(np.lexsort((js, score[js] + 5.0 * crossings))[0])
+            j, end, line = int(js[t]), ends[t], lines[t]
+            break
+        if j is None:
+            continue
         k = int(ok[j])
         cx, cy, _, _ = cands[k]
         field.placed.append(polys[k])
-        field.leaders.append(leaders[j].buffer(0.2))
+        field.leaders.append(line.buffer(0.2))
         return Placement(spec.key, spec.text, cx, cy, 0.0, w, h, fs, prefix,
-                         leader=(anchors[k], ends[j]))
-    return None
+                         leader=(anchors[k], end)), used
+    return None, used
 
 
 def count_overlaps(polygons, obstacles=(), *, min_area: float = 1e-6) -> int:

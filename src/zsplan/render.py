@@ -39,11 +39,14 @@ from __future__ import annotations
 import datetime as _dt
 import io
 import math
+import re
 import xml.etree.ElementTree as ET
+from xml.sax.saxutils import unescape
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
+import shapely
 import svgwrite
 from shapely.geometry import LineString, box
 
@@ -81,6 +84,12 @@ SINGLE_ROW_MIN_MM = 360.0    # frame width from which the title block is one row
 TITLE_BLOCK_ONE_ROW_MM = 32.0
 TITLE_BLOCK_TWO_ROWS_MM = 60.0
 LANDSCAPE_BIAS = 1.15        # orientation None: landscape wins unless portrait fills 15 % more
+#: From this many route labels a sheet counts as dense: label placement gets a
+#: budget and labels that find no place are left out and listed in a note.
+DENSE_LABELS = 150           # zsplan layout choice
+LABEL_BUDGET = 50_000        # candidate label boxes tried on a dense sheet; layout choice
+LEADER_CAP = 1_000           # candidate boxes per label in the leader search there; layout choice
+NOTE_MM = 2.2                # font size of the "not labelled" note; layout choice
 
 #: Short names of checks for labels (other check names are shown as given).
 CHECK_NAMES = {
@@ -149,6 +158,20 @@ class _Raw:
 
 def _raw(text: str) -> _Raw:
     return _Raw(ET.fromstring(text))   # our own generated markup only
+
+
+_ATTR = re.compile(r'\s([\w:-]+)=(?:"([^"]*)"|\'([^\']*)\')')
+
+
+def _raw_empty(text: str) -> _Raw:
+    """:func:`_raw` of one empty element of our own markup (``<use .../>``), without
+    an XML parser: the same element, many times faster for 50k outlets."""
+    m = re.match(r"<([\w:-]+)((?:\s[^>]*?)?)\s*/>$", text)
+    if m is None:
+        return _raw(text)
+    attrib = {k: unescape(v1 or v2, {"&quot;": '"', "&apos;": "'"})
+              for k, v1, v2 in _ATTR.findall(m.group(2))}
+    return _Raw(ET.Element(m.group(1), attrib))
 
 
 def _text(dwg, x, y, s, size, *, weight=None, anchor=None, fill=INK, style=None, **extra):
@@ -227,15 +250,19 @@ def _routes(results, measured) -> list[_Route]:
     a = results.circuits
     tight = plan.settings.tight
     out = []
+    if measured is not None:
+        margins = np.array([_measured_margin(measured, c.board, c.ref) for c in plan.circuits],
+                           dtype=float)
+    else:
+        margins = np.asarray(a["margin"], dtype=float)[:len(plan.circuits)]
+    # all colours and bands at once (one palette call, not one per route)
+    bands = [str(b) for b in np.asarray(palette.band(margins, tight)).reshape(-1)]
+    colours = list(np.asarray(palette.colour(margins, tight), dtype=object).reshape(-1))
     for i, c in enumerate(plan.circuits):
         key = f"{c.board}/{c.ref}"
         status = str(a["status"][i])
-        if measured is not None:
-            m = _measured_margin(measured, c.board, c.ref)
-        else:
-            m = float(a["margin"][i])
-        b = str(palette.band(m, tight))
-        col = palette.colour(m, tight)
+        m = float(margins[i])
+        b, col = bands[i], str(colours[i])
         checks = results.checks[i] if i < len(results.checks) else {}
         if measured is None and b == "none" and checks.get("disconnection") == "fail":
             # a disconnection fail that the margin cannot show (no finite Zs or Zs max)
@@ -433,22 +460,21 @@ def render_svg(results, *, sheet="A3", orientation=None, scale="fit", measured=N
     lines = dwg.g(id="zs-routes", fill="none")
     lines["stroke-linejoin"] = "round"
     lines["stroke-linecap"] = "butt"
+    # plain elements as svgwrite writes them (attributes sorted by name): 10k routes are common
     for r in drawn:
         pts = paper[r.index]
-        pl = dwg.polyline(_pts(pts[:, 0], pts[:, 1]))
-        pl["stroke-width"] = _f(r.width + CASING_MM)
-        casing.add(pl)
-        el = dwg.polyline(_pts(pts[:, 0], pts[:, 1]))
-        el["class"] = f"route route-{r.band}"
-        el["stroke"] = r.colour
-        el["stroke-width"] = _f(r.width)
+        points = " ".join(f"{x},{y}" for x, y in _pts(pts[:, 0], pts[:, 1]))
+        casing.add(_Raw(ET.Element("polyline", {"points": points,
+                                                "stroke-width": _f(r.width + CASING_MM)})))
+        attrib = {"class": f"route route-{r.band}", "data-band": r.band,
+                  "data-circuit": r.key, "data-status": r.status, "points": points,
+                  "stroke": r.colour}
         if r.dash:
-            el["stroke-dasharray"] = r.dash
-        el["data-circuit"] = r.key
-        el["data-status"] = r.status
-        el["data-band"] = r.band
-        el.set_desc(title=r.label)
-        lines.add(el)
+            attrib["stroke-dasharray"] = r.dash
+        attrib["stroke-width"] = _f(r.width)
+        el = ET.Element("polyline", {k: v for k, v in attrib.items() if v})
+        ET.SubElement(el, "title").text = str(r.label)
+        lines.add(_Raw(el))
     dwg.add(casing)
     dwg.add(lines)
 
@@ -456,6 +482,8 @@ def render_svg(results, *, sheet="A3", orientation=None, scale="fit", measured=N
     obstacles = []
     sym = SYMBOL_SIZE_MM
     outlets = dwg.g(id="zs-outlets")
+    centres = []
+    halo_r = _f(sym * 0.5)
     by_key = {r.index: r for r in routes}
     for i, c in enumerate(plan.circuits):
         r = by_key[i]
@@ -463,16 +491,20 @@ def render_svg(results, *, sheet="A3", orientation=None, scale="fit", measured=N
             kind = o.kind if o.kind in SYMBOL_IDS else "fixed"
             x, y = lay.to_paper(o.at[0], o.at[1])
             x, y = float(x), float(y)
-            halo = dwg.circle((_f(x), _f(y)), _f(sym * 0.5), fill="#ffffff")
-            halo["fill-opacity"] = "0.9"
-            outlets.add(halo)
-            u = _raw(use(kind, x, y, sym, INK))
+            # a plain element (as svgwrite writes it, attributes sorted): 50k of them are common
+            outlets.add(_Raw(ET.Element("circle", {"cx": _f(x), "cy": _f(y), "fill": "#ffffff",
+                                                   "fill-opacity": "0.9", "r": halo_r})))
+            u = _raw_empty(use(kind, x, y, sym, INK))
             u.element.set("class", f"outlet outlet-{kind}")
             u.element.set("data-circuit", r.key)
             if o.name:
                 u.element.set("data-name", o.name)
             outlets.add(u)
-            obstacles.append(box(x - sym / 2, y - sym / 2, x + sym / 2, y + sym / 2))
+            centres.append((x, y))
+    if centres:     # the symbols' boxes, made at once
+        c = np.asarray(centres, dtype=float)
+        obstacles.extend(shapely.box(c[:, 0] - sym / 2, c[:, 1] - sym / 2,
+                                     c[:, 0] + sym / 2, c[:, 1] + sym / 2))
     dwg.add(outlets)
 
     boards = dwg.g(id="zs-boards")
@@ -510,7 +542,12 @@ def render_svg(results, *, sheet="A3", orientation=None, scale="fit", measured=N
                                prefix=(LABEL_FONT_MM * 1.3 if r.other else 0.0)))
     route_lines = [LineString(paper[r.index]) for r in drawn if len(paper[r.index]) >= 2]
     bounds = (da.x + 1.0, da.y + 1.0, da.right - 1.0, da.bottom - 1.0)
-    placed = place_labels(specs, obstacles=obstacles, bounds=bounds, lines=route_lines)
+    dense = len(specs) >= DENSE_LABELS
+    if dense:       # room for the note listing labels left out, along the bottom
+        obstacles.append(box(da.x, da.bottom - NOTE_MM * 1.2 - 2.0, da.right, da.bottom))
+    placed = place_labels(specs, obstacles=obstacles, bounds=bounds, lines=route_lines,
+                          budget=LABEL_BUDGET if dense else None,
+                          leader_cap=LEADER_CAP if dense else None)
     by_label = {r.key: r for r in routes}
     labels = dwg.g(id="zs-labels", font_family=FONT)
     leaders = dwg.g(id="zs-leaders", fill="none", stroke=INK)
@@ -544,9 +581,37 @@ def render_svg(results, *, sheet="A3", orientation=None, scale="fit", measured=N
         labels.add(g)
     dwg.add(leaders)
     dwg.add(labels)
+    got = {p.key for p in placed}
+    left_out = [sp.key for sp in specs if sp.key not in got and len(sp.route) >= 2]
+    if left_out:
+        dwg.add(_unlabelled_note(dwg, da, left_out))
 
     _frame_and_title_block(dwg, lay, results, routes, measured, underlay, _date_text(date))
     return _serialise(dwg)
+
+
+def _unlabelled_note(dwg, da, keys):
+    """A line along the bottom of the drawing area naming the routes left unlabelled."""
+    head = "Not labelled on the plan (see the schedule): "
+    width = da.width - 2.0
+    text = head
+    for j, k in enumerate(keys):
+        more = len(keys) - j - 1
+        tail = f", … and {more} more" if more else ""
+        cand = text + ("" if j == 0 else ", ") + k
+        if text_width(cand + tail, NOTE_MM) > width - 2.0 and j > 0:
+            text = text + f", … and {len(keys) - j} more"
+            break
+        text = cand
+    g = dwg.g(id="zs-unlabelled", font_family=FONT)
+    g["data-count"] = str(len(keys))
+    h = NOTE_MM * 1.2 + 1.0
+    back = dwg.rect((_f(da.x + 0.5), _f(da.bottom - h - 0.5)), (_f(width), _f(h)), fill="#ffffff")
+    back["fill-opacity"] = "0.92"
+    g.add(back)
+    g.add(_text(dwg, da.x + 1.5, da.bottom - 0.5 - h / 2 + NOTE_MM * 0.36, text, NOTE_MM,
+                **{"class": "unlabelled"}))
+    return g
 
 
 def _sheet_drawing(sh):

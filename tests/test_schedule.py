@@ -142,11 +142,11 @@ def test_user_text_is_escaped_in_every_format(tmp_path):
 
 
 def test_csv_neutralises_formulas():
-    from zsplan.schedule import _csv_text
+    from zsplan.schedule import csv_text
 
-    assert _csv_text("=HYPERLINK(1)") == "'=HYPERLINK(1)"
-    assert _csv_text("+1") == "'+1" and _csv_text("@a") == "'@a"
-    assert _csv_text("Kitchen") == "Kitchen"
+    assert csv_text("=HYPERLINK(1)") == "'=HYPERLINK(1)"
+    assert csv_text("+1") == "'+1" and csv_text("@a") == "'@a"
+    assert csv_text("Kitchen") == "Kitchen"
 
 
 def test_md_escape_keeps_table_cells_whole():

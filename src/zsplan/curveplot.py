@@ -159,6 +159,21 @@ def _fmt(v: float) -> str:
     return f"{v:.2f}".rstrip("0").rstrip(".")
 
 
+#: stroke of a decade gridline (True) and of a minor one (False)
+_GRID_STYLE = {True: 'stroke="#9a9a9a" stroke-width="0.25"',
+               False: 'stroke="#dedede" stroke-width="0.15"'}
+
+
+def _log_ticks(d0: int, d1: int):
+    """(value, is_decade) for 1..9 x 10^d, d from d0 to d1, up to 10^d1."""
+    for d in range(d0, d1 + 1):
+        for m in range(1, 10):
+            v = m * 10.0 ** d
+            if v > 10.0 ** d1 * 1.0000001:
+                break
+            yield v, m == 1
+
+
 def _tick(v: float) -> str:
     """Decade tick label: 0.01, 0.1, 1, 10, 100, 1000, 10 000."""
     if v >= 1:
@@ -232,24 +247,14 @@ def curve_svg(family_name: str, curve: str | None = None, *, rating: float | Non
 
     # gridlines: minor (2..9 x decade) then decades, then the frame
     grid = []
-    for d in range(lx0, lx1 + 1):
-        for m in range(1, 10):
-            v = m * 10.0 ** d
-            if v > 10.0 ** lx1 * 1.0000001:
-                break
-            x = X(v)
-            major = m == 1
-            grid.append(f'<line x1="{_fmt(x)}" y1="{_fmt(top)}" x2="{_fmt(x)}" y2="{_fmt(top + ph)}" '
-                        f'stroke="{"#9a9a9a" if major else "#dedede"}" stroke-width="{"0.25" if major else "0.15"}"/>')
-    for d in range(ly0, ly1 + 1):
-        for m in range(1, 10):
-            v = m * 10.0 ** d
-            if v > 10.0 ** ly1 * 1.0000001:
-                break
-            y = Y(v)
-            major = m == 1
-            grid.append(f'<line x1="{_fmt(left)}" y1="{_fmt(y)}" x2="{_fmt(left + pw)}" y2="{_fmt(y)}" '
-                        f'stroke="{"#9a9a9a" if major else "#dedede"}" stroke-width="{"0.25" if major else "0.15"}"/>')
+    for v, major in _log_ticks(lx0, lx1):
+        x = X(v)
+        grid.append(f'<line x1="{_fmt(x)}" y1="{_fmt(top)}" x2="{_fmt(x)}" y2="{_fmt(top + ph)}" '
+                    f'{_GRID_STYLE[major]}/>')
+    for v, major in _log_ticks(ly0, ly1):
+        y = Y(v)
+        grid.append(f'<line x1="{_fmt(left)}" y1="{_fmt(y)}" x2="{_fmt(left + pw)}" y2="{_fmt(y)}" '
+                    f'{_GRID_STYLE[major]}/>')
     out.append('<g id="grid">' + "".join(grid) + "</g>")
     out.append(f'<rect x="{_fmt(left)}" y="{_fmt(top)}" width="{_fmt(pw)}" height="{_fmt(ph)}" '
                'fill="none" stroke="#000000" stroke-width="0.35"/>')

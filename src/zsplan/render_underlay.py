@@ -41,7 +41,7 @@ import tinycss2
 from .errors import PlanError, Problem
 from .model import Drawing
 from .svgsafe import SVG_NS, XLINK_NS, XML_NS, parse_svg, sanitize_for_embedding, svg_size
-from .svgplan import _check_scale_options, _layer_names, _metres_per_unit, _norm
+from .svgplan import check_scale_options, layer_names, metres_per_unit, norm_name
 
 __all__ = ["Underlay", "SCOPE_ID", "ID_PREFIX", "load_underlay", "scope_css"]
 
@@ -113,10 +113,10 @@ def load_underlay(drawing: Drawing, plan_path: str = "") -> Underlay | None:
                                     f"the plan file's folder ({folder}); expected a file in "
                                     "that folder or below it", "drawing.floorplan"))
         name = str(full)
-    _check_scale_options(name, plan_path, drawing.scale, drawing.units_per_metre,
+    check_scale_options(name, plan_path, drawing.scale, drawing.units_per_metre,
                          drawing.calibrate)
     root = parse_svg(name, plan_file=plan_path)
-    mpu = _metres_per_unit(root, name, drawing.scale, drawing.units_per_metre,
+    mpu = metres_per_unit(root, name, drawing.scale, drawing.units_per_metre,
                            drawing.calibrate, [])
     vb, _, _ = svg_size(root)
     extent = None
@@ -125,7 +125,7 @@ def load_underlay(drawing: Drawing, plan_path: str = "") -> Underlay | None:
     clean = sanitize_for_embedding(root)
     hide = set()
     if drawing.routes_layer:
-        hide = {_norm(drawing.routes_layer), "boards", "outlets"}
+        hide = {norm_name(drawing.routes_layer), "boards", "outlets"}
     group = _convert(clean, hide)
     return Underlay(group, mpu, extent, name)
 
@@ -154,7 +154,7 @@ def _convert_element(src: ET.Element, hide: set) -> ET.Element | None:
             return None
     else:
         name = tag
-    if hide and name == "g" and _layer_names(src) & hide:
+    if hide and name == "g" and layer_names(src) & hide:
         return None
     out = ET.Element(name)
     for key, value in src.attrib.items():

@@ -233,7 +233,7 @@ def _summary_line(results: Results) -> str:
 _FORMULA = re.compile(r"^[=+\-@\t\r]")
 
 
-def _csv_text(text: str) -> str:
+def csv_text(text: str) -> str:
     """Neutralise text a spreadsheet would run as a formula (OWASP CSV injection advice)."""
     return "'" + text if _FORMULA.match(text) else text
 
@@ -248,13 +248,13 @@ def to_csv(results: Results) -> str:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     title, sub = _header_lines(results, ohm="ohm")
-    w.writerow([_csv_text(title)])
-    w.writerow([_csv_text(sub)])
+    w.writerow([csv_text(title)])
+    w.writerow([csv_text(sub)])
     w.writerow([])
     cols = _columns(rows, ohm="ohm")
     w.writerow([h for h, _, _ in cols])
     for r in rows:
-        w.writerow([g(r) if num else _csv_text(g(r)) for _, g, num in cols])
+        w.writerow([g(r) if num else csv_text(g(r)) for _, g, num in cols])
     w.writerow([])
     subs = submain_rows(results)
     if subs:
@@ -262,7 +262,7 @@ def to_csv(results: Results) -> str:
         scols = _submain_columns(ohm="ohm")
         w.writerow([h for h, _, _ in scols])
         for r in subs:
-            w.writerow([g(r) if num else _csv_text(g(r)) for _, g, num in scols])
+            w.writerow([g(r) if num else csv_text(g(r)) for _, g, num in scols])
         w.writerow([SUBMAIN_NOTE])
         w.writerow([])
     takeoff = cable_takeoff(results.plan, results.lengths)

@@ -162,7 +162,7 @@ def _finite_positive(value) -> float | None:
     return v if (math.isfinite(v) and v > 0) else None
 
 
-def _check_scale_options(name, plan_file, scale, units_per_metre, calibrate):
+def check_scale_options(name, plan_file, scale, units_per_metre, calibrate):
     """Exactly one way of giving the real-world scale, each well formed."""
     where = plan_file or name
     given = [k for k, v in (("drawing.scale", scale),
@@ -243,7 +243,8 @@ def _mm_per_user_unit(root, name, warnings) -> float:
     return used[0][0]
 
 
-def _metres_per_unit(root, name, scale, units_per_metre, calibrate, warnings) -> float:
+def metres_per_unit(root, name, scale, units_per_metre, calibrate, warnings) -> float:
+    """Plan metres per root user unit, from the drawing's scale, units per metre or calibration."""
     if scale is not None:
         mpu, key = _mm_per_user_unit(root, name, warnings) * _finite_positive(scale) / 1000.0, "scale"
     elif units_per_metre is not None:
@@ -494,7 +495,8 @@ def _shown(text, limit: int = 60) -> str:
     return repr(text)
 
 
-def _norm(text) -> str:
+def norm_name(text) -> str:
+    """A layer or element name compared without case or extra white space."""
     return " ".join(str(text).split()).casefold()
 
 
@@ -503,10 +505,10 @@ def _own(el: ET.Element, key: str) -> str:
     return v.strip() if v and v.strip() else ""
 
 
-def _layer_names(el: ET.Element) -> set[str]:
-    names = {_norm(el.get(k)) for k in (LABEL, "data-layer", "data-name", "id") if el.get(k)}
+def layer_names(el: ET.Element) -> set[str]:
+    names = {norm_name(el.get(k)) for k in (LABEL, "data-layer", "data-name", "id") if el.get(k)}
     if el.get("id"):
-        names.add(_norm(el.get("id").replace("_", " ")))
+        names.add(norm_name(el.get("id").replace("_", " ")))
     names.discard("")
     return names
 
@@ -575,7 +577,7 @@ def _pruned(work: ET.Element, roles: dict[str, str]) -> ET.Element:
     by_id = {e.get("id"): e for e in work.iter() if e.get("id")}
     styles = [copy.deepcopy(e) for e in work.iter() if local_name(e.tag) == "style"]
     layers = [g for g in work.iter()
-              if local_name(g.tag) == "g" and any(n in roles for n in _layer_names(g))]
+              if local_name(g.tag) == "g" and any(n in roles for n in layer_names(g))]
     keep_full = set(layers)
     keep_shallow = set()
     for g in layers:
@@ -773,7 +775,7 @@ class _Reader:
         if tag == "g":
             if _is_sublayer(el) or id(el) in self.top:
                 self.layer_list.append(_title(el))
-            matched = {self.roles[n] for n in _layer_names(el) if n in self.roles}
+            matched = {self.roles[n] for n in layer_names(el) if n in self.roles}
             if len(matched) > 1:
                 self.problem(el, f"this group matches more than one layer name "
                                  f"({', '.join(sorted(matched))}); expected one")
@@ -962,13 +964,13 @@ def read_drawing(svg_path, *, scale: float | None = None,
     if tol_m is None:
         raise ValueError(f"chord_tolerance_m must be a positive length in metres, got "
                          f"{chord_tolerance_m!r}")
-    _check_scale_options(name, plan_file, scale, units_per_metre, calibrate)
+    check_scale_options(name, plan_file, scale, units_per_metre, calibrate)
     roles: dict[str, str] = {}
     for role, layer in (("routes", routes_layer), ("boards", boards_layer),
                         ("outlets", outlets_layer)):
-        if layer is None or not _norm(layer):
+        if layer is None or not norm_name(layer):
             continue
-        key = _norm(layer)
+        key = norm_name(layer)
         if key in roles:
             raise PlanError(Problem(
                 file=plan_file or name, path="drawing.routes_layer",
@@ -978,7 +980,7 @@ def read_drawing(svg_path, *, scale: float | None = None,
 
     root = parse_svg(name, plan_file=plan_file, max_bytes=max_bytes)
     warnings: list[str] = []
-    mpu = _metres_per_unit(root, name, scale, units_per_metre, calibrate, warnings)
+    mpu = metres_per_unit(root, name, scale, units_per_metre, calibrate, warnings)
     vb, _, _ = svg_size(root)
     if vb is not None and (vb[0] != 0 or vb[1] != 0) and root.get("viewBox") is not None:
         warnings.append(f"{name}: the drawing's viewBox starts at ({vb[0]:g}, {vb[1]:g}), "

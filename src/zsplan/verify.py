@@ -655,7 +655,7 @@ def to_csv(verification: Verification) -> str:
     starts with a UTF-8 byte-order mark so spreadsheet programs read it as
     UTF-8.
     """
-    from .schedule import _csv_text   # the one CSV-injection guard of the package
+    from .schedule import csv_text   # the one CSV-injection guard of the package
 
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
@@ -666,22 +666,22 @@ def to_csv(verification: Verification) -> str:
         for k, _ in _CSV_COLUMNS:
             x = rec.get(k)
             if k == "messages":
-                row.append(_csv_text("; ".join(x)))
+                row.append(csv_text("; ".join(x)))
             elif isinstance(x, bool):
                 row.append("yes" if x else "")
             elif x is None:
                 row.append("")
             elif isinstance(x, str):
-                row.append(_csv_text(x))
+                row.append(csv_text(x))
             else:
                 row.append(str(x))
         w.writerow(row)
     w.writerow([])
     s = verification.summary()
-    w.writerow([_csv_text(f"{len(verification.circuits)} circuits: " +
+    w.writerow([csv_text(f"{len(verification.circuits)} circuits: " +
                           ", ".join(f"{s[k]} {k}" for k in STATUSES))])
     for warn in verification.warnings:
-        w.writerow([_csv_text(warn)])
+        w.writerow([csv_text(warn)])
     w.writerow([f"Caution: {CAUTION}"])
     return "\ufeff" + buf.getvalue()
 

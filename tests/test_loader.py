@@ -17,7 +17,7 @@ import pytest
 import yaml
 from hypothesis import given, settings, strategies as st
 
-from zsplan import loader
+from zsplan import loader, yaml_compose
 from zsplan.errors import PlanError
 from zsplan.loader import load_plan, load_plan_text
 from zsplan.model import Device, Settings
@@ -140,7 +140,7 @@ def test_pure_python_yaml_gives_the_same_plan_and_lines(monkeypatch):
     fast = load_plan(PLANS / "example.yaml")
     bad = edit("ze: 0.35 ohm", "ze: 30 m")
     fast_problem = one_problem(bad)
-    monkeypatch.setattr(loader, "_LOADER", yaml.SafeLoader)
+    monkeypatch.setattr(yaml_compose, "LOADER", yaml.SafeLoader)
     assert load_plan(PLANS / "example.yaml") == fast
     assert one_problem(bad) == fast_problem
 

@@ -22,7 +22,6 @@ which refuses to write over the plan or its floor plan.
 from __future__ import annotations
 
 import argparse
-import json
 import os
 import sys
 from pathlib import Path
@@ -202,14 +201,17 @@ def cmd_check(args, progress) -> int:
     progress.clear()
     _warn(results)
     if args.json:
-        doc = json.dumps(results.to_dict(), ensure_ascii=False, indent=2, allow_nan=False)
         out = getattr(sys.stdout, "buffer", None)
         if out is not None:            # JSON is UTF-8 whatever the locale
             sys.stdout.flush()
-            out.write((doc + "\n").encode("utf-8"))
+            for piece in results.json_pieces():
+                out.write(piece.encode("utf-8"))
+            out.write(b"\n")
             out.flush()
         else:
-            _out_text(doc + "\n")
+            for piece in results.json_pieces():
+                sys.stdout.write(piece)
+            _out_text("\n")
     else:
         lines = check_lines(results, order=args.order, colour=colour_wanted(sys.stdout),
                             width=terminal_width(sys.stdout), glyphs=glyphs_for(sys.stdout))

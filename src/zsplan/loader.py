@@ -8,14 +8,17 @@ example ``circuits[2].cable.cpc``), the 1-based line and what was expected.
 
 How it works
 ------------
-The YAML text is *composed* (parsed to a node tree, by libyaml's C parser
-when PyYAML was built with it) but never *constructed* into Python objects:
-one walk over the nodes, driven by the plan's schema, checks and converts
-each value straight into the model's units.  Every node keeps its mark, so
-each value's line is known; the walk replaces PyYAML's constructor, so the
-cost stays close to a bare ``yaml.load`` of the same file.  Repeated small
-mappings (the same device or cable written on many circuits) are converted
-once and reused, and quantity strings are parsed once
+The YAML text is *composed* (parsed to a node tree from libyaml's event
+stream, by :mod:`zsplan.yaml_compose`) but never *constructed* into Python
+objects: one walk over the nodes, driven by the plan's schema, checks and
+converts each value straight into the model's units.  Every node keeps its
+mark, so each value's line is known; the walk replaces PyYAML's constructor,
+so the cost stays close to a bare ``yaml.load`` of the same file.  The
+``circuits`` list is streamed: each circuit is walked as soon as it has been
+read and its nodes are dropped, so memory grows with the model, not with the
+YAML tree (a building of 50 000 circuits loads in about 0.4 GB instead of
+2.2 GB).  Repeated small mappings (the same device or cable written on many
+circuits) are converted once and reused, and quantity strings are parsed once
 (:func:`zsplan.units.parse` caches them).
 
 Scalars are read from their source text where YAML 1.1 would surprise: a
@@ -43,6 +46,7 @@ from yaml.nodes import MappingNode, ScalarNode, SequenceNode
 from zsplan import units
 from zsplan.errors import Collector, PlanError, Problem
 from zsplan._runtime import gc_paused, read_bounded
+from zsplan.yaml_compose import Composer
 from zsplan.model import (DEVICE_TYPES, EARTHING, MATERIALS, RUNS, TOPOLOGIES,
                           USES, Board, Cable, Circuit, Device, Drawing, Outlet,
                           Plan, Settings, SubMain, Supply, Where)
@@ -60,7 +64,7 @@ FORMAT_VERSION = 1
 # beyond any real installation, so that it never reaches the engine.
 
 #: Largest plan file read, in bytes: a building of 50 000 circuits takes about
-#: 33 MB of YAML (0.65 kB a circuit) and about a gigabyte of memory to load; a
+#: 33 MB of YAML (0.65 kB a circuit) and about 0.4 GB of memory to load; a
 #: larger file is refused before it is read.
 MAX_PLAN_BYTES = 40_000_000
 #: Largest magnitude of a plan coordinate. [m]  Ten times the Earth's
@@ -120,8 +124,6 @@ DEFAULT_U0_V = 230.0
 DEFAULT_CMIN = 0.95
 # BS 7671:2018 Table 54.3: 70 °C thermoplastic, 90 °C thermosetting insulation
 TEMP_RATINGS_C = (70.0, 90.0)
-
-_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
 
 _STR = "tag:yaml.org,2002:str"
 _INT = "tag:yaml.org,2002:int"
@@ -277,21 +279,29 @@ def load_plan_text(text: str, *, file: str = "<string>", base_dir=".") -> Plan:
     if not isinstance(text, str):
         raise TypeError(f"load_plan_text takes the plan as str, got {type(text).__name__}")
     with gc_paused():
-        root = _compose(text, file)
         try:
-            if "&" in text and "*" in text:     # aliases need an anchor: else nothing to count
-                _check_expansion(root, file)
-            return _Reader(file, base_dir).plan(root)
-        finally:
-            del root   # free the node tree before the collector runs again
+            return _Reader(file, base_dir).read(text, stream=True)
+        except _Restart:
+            # the circuits were read before something they depend on (a
+            # 'defaults' key after them, or one given by a merge key): read
+            # the plan again with the whole tree kept
+            return _Reader(file, base_dir).read(text, stream=False)
+
+
+class _Restart(Exception):
+    """The streamed circuits were read with other defaults than the plan's."""
 
 
 # --- YAML ----------------------------------------------------------------------
 
-def _compose(text: str, file: str):
-    """YAML text -> root node; syntax errors -> PlanError with the line."""
+def _compose(composer: Composer, text: str, file: str):
+    """YAML text -> root node; syntax errors -> PlanError with the line.
+
+    Then refuses a document whose aliases multiply it out of bounds (a YAML
+    bomb), from the composer's count of the values it stands for.
+    """
     try:
-        root = yaml.compose(text, Loader=_LOADER)
+        root = composer.compose()
     except yaml.reader.ReaderError as exc:   # a character YAML does not allow
         line = text.count("\n", 0, exc.position) + 1 if isinstance(exc.position, int) else None
         column = (exc.position - text.rfind("\n", 0, exc.position)) if line else None
@@ -330,47 +340,19 @@ def _compose(text: str, file: str):
         raise PlanError(Problem(
             file, f"the plan is empty; expected a mapping starting with "
             f"'zsplan: {FORMAT_VERSION}'", "", 1))
+    if _too_expanded(composer):
+        raise PlanError(Problem(
+            file, f"the plan's YAML aliases (*name) stand for {composer.expanded:,} values "
+            f"although only {composer.written:,} are written; expected aliases that repeat "
+            "small parts of a plan (a device, a cable), not aliases of aliases (a YAML "
+            "bomb)", "", 1))
     return root
 
 
-def _check_expansion(root, file: str) -> None:
-    """Refuse a document whose aliases multiply it out of bounds (a YAML bomb).
-
-    Counts, once per distinct node, the values the document stands for when
-    every alias is written out; the walk is iterative and linear in the
-    nodes written.
-    """
-    size: dict[int, int] = {}
-    open_: set[int] = set()
-    stack = [(root, False)]
-    while stack:
-        node, done = stack.pop()
-        nid = id(node)
-        if done:
-            open_.discard(nid)
-            if node.__class__ is ScalarNode:
-                size[nid] = 1
-            elif node.__class__ is SequenceNode:
-                size[nid] = 1 + sum(size.get(id(c), 1) for c in node.value)
-            else:
-                size[nid] = 1 + sum(size.get(id(k), 1) + size.get(id(v), 1) for k, v in node.value)
-            continue
-        if nid in size or nid in open_:
-            continue          # seen, or an alias of a node being counted (a cycle)
-        open_.add(nid)
-        stack.append((node, True))
-        if node.__class__ is SequenceNode:
-            stack.extend((c, False) for c in node.value)
-        elif node.__class__ is MappingNode:
-            for k, v in node.value:
-                stack.append((k, False))
-                stack.append((v, False))
-    total, written = size.get(id(root), 1), len(size)
-    if total > _MAX_EXPANDED_NODES and total > _MAX_EXPANSION * written:
-        raise PlanError(Problem(
-            file, f"the plan's YAML aliases (*name) stand for {total:,} values although "
-            f"only {written:,} are written; expected aliases that repeat small parts of "
-            "a plan (a device, a cable), not aliases of aliases (a YAML bomb)", "", 1))
+def _too_expanded(composer: Composer) -> bool:
+    """Whether the aliases make the document too large to walk (so far)."""
+    return (composer.expanded > _MAX_EXPANDED_NODES
+            and composer.expanded > _MAX_EXPANSION * composer.written)
 
 
 def _one_line(text) -> str:
@@ -387,6 +369,15 @@ def _shown(text, limit: int = _SHOW_CHARS) -> str:
     if len(text) > limit:
         text = text[:limit] + f"... ({len(text):,} characters)"
     return repr(text)
+
+
+class _Place:
+    """Where a node was (its start mark), without the node."""
+
+    __slots__ = ("start_mark",)
+
+    def __init__(self, start_mark):
+        self.start_mark = start_mark
 
 
 def _line(node) -> int | None:
@@ -501,6 +492,68 @@ class _Reader:
         self._drawing_warnings: list = []
         self._drawing_failed = False
         self._vdrop_limits_given: set[str] = set()
+        self._stream: dict | None = None
+
+    # -- reading
+    def read(self, text: str, stream: bool) -> Plan:
+        """Compose ``text`` and walk it into a plan.
+
+        With ``stream``, each circuit is walked as soon as the composer has
+        read it and its nodes are dropped (see :meth:`_start_circuits`).
+        """
+        composer = Composer(text, stream_key="circuits",
+                            on_stream=self._start_circuits if stream else None)
+        root = _compose(composer, text, self.file)
+        try:
+            return self.plan(root)
+        finally:
+            del root   # free the node tree before the collector runs again
+
+    def _start_circuits(self, composer: Composer, pairs, node):
+        """The top-level 'circuits' list opens: read its items as they come.
+
+        The circuits inherit the plan's ``defaults``: the first 'defaults'
+        key before them is read now (its problems kept for their place in
+        the report).  :meth:`plan` checks that it is the plan's own, else the
+        plan is read again without streaming.  Problems are kept per circuit
+        and reported in the order of the file.  While the aliases read so
+        far stand for too many values (a YAML bomb in the making), an item
+        is kept unwalked until the whole document has been counted.
+        """
+        dnode = next((v for k, v in pairs if k.__class__ is ScalarNode
+                      and k.value == "defaults" and k.tag != _MERGE), None)
+        outer, self.c = self.c, Collector(self.file)
+        try:
+            values = self.defaults(dnode)
+        finally:
+            problems, self.c = self.c.problems, outer
+        stream = self._stream = {"node": node, "defaults_node": dnode, "defaults": values,
+                                 "defaults_problems": problems, "items": []}
+        items = stream["items"]
+
+        def item(inode, index):
+            if _too_expanded(composer):
+                items.append((False, inode, index))
+                return
+            outer, self.c = self.c, Collector(self.file)
+            try:
+                c = self.circuit(inode, f"circuits[{index}]", values)
+            finally:
+                found, self.c = self.c.problems, outer
+            items.append((True, c, found))
+        return item
+
+    def _streamed_circuits(self) -> list[dict]:
+        """The streamed circuits, in order, their problems reported in order."""
+        out = []
+        for walked, c, found in self._stream["items"]:
+            if not walked:                   # kept unwalked: walk it now
+                c = self.circuit(c, f"circuits[{found}]", self._stream["defaults"])
+            else:
+                self.c.problems.extend(found)
+            if c is not None:
+                out.append(c)
+        return out
 
     # -- reporting
     def add(self, message: str, path: str, node=None, line=None) -> None:
@@ -785,8 +838,16 @@ class _Reader:
         if "title" in top and top["title"].tag != _NULL:
             title = self.text(top["title"], "title", "a title") or ""
 
+        stream = self._stream
+        if stream is not None and (top.get("defaults") is not stream["defaults_node"]
+                                   or top.get("circuits") is not stream["node"]):
+            raise _Restart()
         supply = self.supply(top.get("supply"), root)
-        defaults = self.defaults(top.get("defaults"))
+        if stream is not None:        # read already, with the circuits
+            defaults = stream["defaults"]
+            self.c.problems.extend(stream["defaults_problems"])
+        else:
+            defaults = self.defaults(top.get("defaults"))
         settings = self.settings(top.get("settings"))
         if supply is not None and supply.private:
             # a private supply: its own limits, unless the settings give them
@@ -808,6 +869,11 @@ class _Reader:
         if circuits_node is None:
             self.missing(root, "", "circuits", "a list of circuits")
             circuits = []
+        elif stream is not None:
+            if not stream["items"]:
+                self.add("expected at least one circuit", "circuits", circuits_node)
+            circuits = self._streamed_circuits()
+            self._stream = None
         else:
             circuits = self.circuits(circuits_node, defaults)
 
@@ -1329,7 +1395,13 @@ class _Reader:
             kw["outlets"] = self.outlets(n, f"{path}.outlets",
                                          _KIND_OF_USE.get(kw.get("use") or "sockets"))
         kw["where"] = Where(self.file, path, _line(node))
-        return {"kw": kw, "m": m, "node": node}
+        # what later checks need, not the circuit's nodes: its keys, the
+        # nodes of board and ref (their lines) and its own line
+        kept = dict.fromkeys(m)
+        for key in ("board", "ref"):
+            if key in m:
+                kept[key] = m[key]
+        return {"kw": kw, "m": kept, "node": _Place(node.start_mark)}
 
     def circuit_checks(self, m: dict, path: str, kw: dict) -> None:
         """Installation method, phases, insulation and RCD options, into ``kw``."""

@@ -8,6 +8,7 @@ makes a failing circuit look like a pass.
 """
 from __future__ import annotations
 
+import json
 import math
 from dataclasses import dataclass, field
 
@@ -183,3 +184,27 @@ class Results:
                 "circuits": records,
                 "submains": subs,
                 "summary": self.summary()}
+
+    def json_pieces(self, batch: int = 500):
+        """The results document as JSON text, in pieces of ``batch`` circuits.
+
+        Joined, the pieces are exactly ``json.dumps(self.to_dict(),
+        ensure_ascii=False, indent=2, allow_nan=False)``, but neither the
+        whole document nor all its records are held at once, so a plan of
+        any size is written in bounded memory.
+        """
+        def dumps(value, depth):
+            text = json.dumps(value, ensure_ascii=False, indent=2, allow_nan=False)
+            return text.replace("\n", "\n" + "  " * depth) if depth else text
+
+        head = dumps({"zsplan": 1, "plan": self.plan.path}, 0)
+        n = len(self.plan.circuits)
+        yield head[:-2] + ',\n  "circuits": ' + ("[" if n else "[]")
+        for start in range(0, n, batch):
+            with gc_paused():      # many small records, no reference cycles
+                records = [self.circuit_record(i) for i in range(start, min(n, start + batch))]
+            yield (",\n    " if start else "\n    ") + ",\n    ".join(
+                dumps(r, 2) for r in records)
+        subs = [self.submain_record(i) for i in range(len(self.submains.get("boards", ())))]
+        yield (("\n  ]" if n else "") + ',\n  "submains": ' + dumps(subs, 1)
+               + ',\n  "summary": ' + dumps(self.summary(), 1) + "\n}")

@@ -39,16 +39,14 @@ from __future__ import annotations
 import datetime as _dt
 import io
 import math
-import re
 import xml.etree.ElementTree as ET
-from xml.sax.saxutils import unescape
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import shapely
 import svgwrite
-from shapely.geometry import LineString, box
+from shapely.geometry import box
 
 from . import CAUTION, __version__
 from . import palette
@@ -57,7 +55,8 @@ from .labels import PAD_X, LabelSpec, place_labels, text_width
 from .outputs import write_atomic
 from .results import safe_round
 from .sheets import fit, scale_bar, sheet as make_sheet
-from .symbols import SYMBOL_IDS, SYMBOL_SIZE_MM, symbol_defs, use
+from .symbols import (SYMBOL_IDS, SYMBOL_SIZE_MM, symbol_defs, use, use_attributes,
+                      use_attributes_many)
 
 __all__ = [
     "render_svg",
@@ -121,12 +120,24 @@ _KIND_NAMES = {
 
 def _f(v: float) -> str:
     """A coordinate in mm with at most three decimals, no trailing zeros."""
-    s = f"{float(v):.3f}".rstrip("0").rstrip(".")
-    return "0" if s in ("-0", "") else s
+    return _fs((float(v),))[0]
 
 
-def _pts(xs, ys) -> list[tuple[str, str]]:
-    return [(_f(x), _f(y)) for x, y in zip(xs, ys)]
+def _fs(values) -> list[str]:
+    """:func:`_f` of many numbers at once (a sequence of floats, or an array)."""
+    if isinstance(values, np.ndarray):
+        values = values.ravel().tolist()
+    out = []
+    for v in values:
+        s = f"{v:.3f}".rstrip("0").rstrip(".")
+        out.append("0" if s in ("-0", "") else s)
+    return out
+
+
+def _points_text(pts: np.ndarray) -> str:
+    """The ``points`` of a polyline through the rows of ``pts`` (x, y in mm)."""
+    s = _fs(pts)
+    return " ".join(f"{x},{y}" for x, y in zip(s[0::2], s[1::2]))
 
 
 def _num(name: str, value, decimals: int) -> str:
@@ -158,20 +169,6 @@ class _Raw:
 
 def _raw(text: str) -> _Raw:
     return _Raw(ET.fromstring(text))   # our own generated markup only
-
-
-_ATTR = re.compile(r'\s([\w:-]+)=(?:"([^"]*)"|\'([^\']*)\')')
-
-
-def _raw_empty(text: str) -> _Raw:
-    """:func:`_raw` of one empty element of our own markup (``<use .../>``), without
-    an XML parser: the same element, many times faster for 50k outlets."""
-    m = re.match(r"<([\w:-]+)((?:\s[^>]*?)?)\s*/>$", text)
-    if m is None:
-        return _raw(text)
-    attrib = {k: unescape(v1 or v2, {"&quot;": '"', "&apos;": "'"})
-              for k, v1, v2 in _ATTR.findall(m.group(2))}
-    return _Raw(ET.Element(m.group(1), attrib))
 
 
 def _text(dwg, x, y, s, size, *, weight=None, anchor=None, fill=INK, style=None, **extra):
@@ -443,106 +440,45 @@ def render_svg(results, *, sheet="A3", orientation=None, scale="fit", measured=N
         outer.append(inner)
         dwg.add(_Raw(outer))
 
-    # routes
+    # routes, outlets and boards: thousands of elements, written as SVG text directly
+    # (the same bytes ElementTree would write for them, see _attr and _element)
     paper = {}
-    for r in routes:
-        c = plan.circuits[r.index]
-        if not c.route:
-            continue
-        xs, ys = lay.to_paper([p[0] for p in c.route], [p[1] for p in c.route])
-        paper[r.index] = np.column_stack([xs, ys])
     order = {"none": 0, "pass": 1, "tight": 2, "fail": 3}
-    drawn = sorted((r for r in routes if r.index in paper), key=lambda r: (order[r.band], r.index))
+    drawn_routes = [r for r in routes if plan.circuits[r.index].route]
+    if drawn_routes:
+        counts = np.array([len(plan.circuits[r.index].route) for r in drawn_routes])
+        flat = np.asarray([p for r in drawn_routes for p in plan.circuits[r.index].route],
+                          dtype=float).reshape(-1, 2)
+        xs, ys = lay.to_paper(flat[:, 0], flat[:, 1])
+        both = np.column_stack([xs, ys])
+        for r, pts in zip(drawn_routes, np.split(both, np.cumsum(counts)[:-1])):
+            paper[r.index] = pts
+    drawn = sorted(drawn_routes, key=lambda r: (order[r.band], r.index))
+    at = len(dwg.elements)      # the layers of text go in here, after the underlay
+    layers = [_route_layers(drawn, paper)]
 
-    casing = dwg.g(id="zs-casings", fill="none", stroke="#ffffff", opacity="0.85")
-    casing["stroke-linejoin"] = "round"
-    casing["stroke-linecap"] = "round"
-    lines = dwg.g(id="zs-routes", fill="none")
-    lines["stroke-linejoin"] = "round"
-    lines["stroke-linecap"] = "butt"
-    # plain elements as svgwrite writes them (attributes sorted by name): 10k routes are common
-    for r in drawn:
-        pts = paper[r.index]
-        points = " ".join(f"{x},{y}" for x, y in _pts(pts[:, 0], pts[:, 1]))
-        casing.add(_Raw(ET.Element("polyline", {"points": points,
-                                                "stroke-width": _f(r.width + CASING_MM)})))
-        attrib = {"class": f"route route-{r.band}", "data-band": r.band,
-                  "data-circuit": r.key, "data-status": r.status, "points": points,
-                  "stroke": r.colour}
-        if r.dash:
-            attrib["stroke-dasharray"] = r.dash
-        attrib["stroke-width"] = _f(r.width)
-        el = ET.Element("polyline", {k: v for k, v in attrib.items() if v})
-        ET.SubElement(el, "title").text = str(r.label)
-        lines.add(_Raw(el))
-    dwg.add(casing)
-    dwg.add(lines)
-
-    # symbols
-    obstacles = []
     sym = SYMBOL_SIZE_MM
-    outlets = dwg.g(id="zs-outlets")
-    centres = []
-    halo_r = _f(sym * 0.5)
-    by_key = {r.index: r for r in routes}
-    for i, c in enumerate(plan.circuits):
-        r = by_key[i]
-        for o in c.outlets:
-            kind = o.kind if o.kind in SYMBOL_IDS else "fixed"
-            x, y = lay.to_paper(o.at[0], o.at[1])
-            x, y = float(x), float(y)
-            # a plain element (as svgwrite writes it, attributes sorted): 50k of them are common
-            outlets.add(_Raw(ET.Element("circle", {"cx": _f(x), "cy": _f(y), "fill": "#ffffff",
-                                                   "fill-opacity": "0.9", "r": halo_r})))
-            u = _raw_empty(use(kind, x, y, sym, INK))
-            u.element.set("class", f"outlet outlet-{kind}")
-            u.element.set("data-circuit", r.key)
-            if o.name:
-                u.element.set("data-name", o.name)
-            outlets.add(u)
-            centres.append((x, y))
-    if centres:     # the symbols' boxes, made at once
-        c = np.asarray(centres, dtype=float)
-        obstacles.extend(shapely.box(c[:, 0] - sym / 2, c[:, 1] - sym / 2,
-                                     c[:, 0] + sym / 2, c[:, 1] + sym / 2))
-    dwg.add(outlets)
-
-    boards = dwg.g(id="zs-boards")
-    bsize = sym * 1.3
-    for b in plan.boards:
-        if b.at is None:
-            continue
-        x, y = lay.to_paper(b.at[0], b.at[1])
-        x, y = float(x), float(y)
-        back = dwg.rect((_f(x - bsize / 2), _f(y - bsize / 2)), (_f(bsize), _f(bsize)),
-                        fill="#ffffff")
-        boards.add(back)
-        u = _raw(use("board", x, y, bsize, INK))
-        u.element.set("class", "board")
-        u.element.set("data-board", b.ref)
-        boards.add(u)
-        obstacles.append(box(x - bsize / 2, y - bsize / 2, x + bsize / 2, y + bsize / 2))
-        # board reference, placed above-left of the symbol where it fits
-        fs = 3.0
-        w = text_width(b.ref, fs, True)
-        tx, ty = x - bsize / 2 - 0.8 - w, y - bsize / 2 - 0.6
-        if tx < da.x + 1:
-            tx = x + bsize / 2 + 0.8
-        boards.add(_text(dwg, tx, ty, b.ref, fs, weight="bold", font_family=FONT,
-                         **{"class": "board-ref"}))
-        obstacles.append(box(tx - 0.3, ty - fs * 0.8, tx + w + 0.3, ty + fs * 0.25))
-    dwg.add(boards)
+    layer, centres = _outlet_layer(plan, routes, lay, sym)
+    layers.append(layer)
+    obstacles = []
+    if len(centres):     # the symbols' boxes, made at once
+        cx, cy = centres[:, 0], centres[:, 1]
+        obstacles.extend(shapely.box(cx - sym / 2, cy - sym / 2, cx + sym / 2, cy + sym / 2))
+    layer, board_boxes = _board_layer(plan, lay, sym * 1.3, da)
+    layers.append(layer)
+    obstacles.extend(board_boxes)
 
     # labels
-    specs = []
-    for r in sorted(drawn, key=lambda r: (-order[r.band], r.index)):
-        pts = paper[r.index]
-        specs.append(LabelSpec(r.key, r.label, tuple(map(tuple, pts)), LABEL_FONT_MM,
-                               clearance=r.width / 2 + CASING_MM / 2 + 0.4,
-                               prefix=(LABEL_FONT_MM * 1.3 if r.other else 0.0)))
-    route_lines = [LineString(paper[r.index]) for r in drawn if len(paper[r.index]) >= 2]
+    label_order = sorted(drawn, key=lambda r: (-order[r.band], r.index))
+    # made one at a time as placement asks for them (on a dense sheet most are
+    # never looked at: they would only pile up for the garbage collector)
+    specs = (LabelSpec(r.key, r.label, tuple(map(tuple, paper[r.index].tolist())), LABEL_FONT_MM,
+                       clearance=r.width / 2 + CASING_MM / 2 + 0.4,
+                       prefix=(LABEL_FONT_MM * 1.3 if r.other else 0.0))
+             for r in label_order)
+    route_lines = _lines([paper[r.index] for r in drawn if len(paper[r.index]) >= 2])
     bounds = (da.x + 1.0, da.y + 1.0, da.right - 1.0, da.bottom - 1.0)
-    dense = len(specs) >= DENSE_LABELS
+    dense = len(label_order) >= DENSE_LABELS
     if dense:       # room for the note listing labels left out, along the bottom
         obstacles.append(box(da.x, da.bottom - NOTE_MM * 1.2 - 2.0, da.right, da.bottom))
     placed = place_labels(specs, obstacles=obstacles, bounds=bounds, lines=route_lines,
@@ -582,12 +518,12 @@ def render_svg(results, *, sheet="A3", orientation=None, scale="fit", measured=N
     dwg.add(leaders)
     dwg.add(labels)
     got = {p.key for p in placed}
-    left_out = [sp.key for sp in specs if sp.key not in got and len(sp.route) >= 2]
+    left_out = [r.key for r in label_order if r.key not in got and len(paper[r.index]) >= 2]
     if left_out:
         dwg.add(_unlabelled_note(dwg, da, left_out))
 
     _frame_and_title_block(dwg, lay, results, routes, measured, underlay, _date_text(date))
-    return _serialise(dwg)
+    return _serialise(dwg, "".join(layers), at)
 
 
 def _unlabelled_note(dwg, da, keys):
@@ -621,10 +557,160 @@ def _sheet_drawing(sh):
     return dwg
 
 
-def _serialise(dwg) -> str:
+def _serialise(dwg, layers: str = "", at: int | None = None) -> str:
+    """The document as text; ``layers`` (SVG markup) goes in after the first ``at``
+    elements of ``dwg`` (default: after all of them)."""
     root = dwg.get_xml()
-    body = ET.tostring(root, encoding="unicode", short_empty_elements=True)
-    return '<?xml version="1.0" encoding="UTF-8"?>\n' + body + "\n"
+    if not layers:
+        body = ET.tostring(root, encoding="unicode", short_empty_elements=True)
+        return '<?xml version="1.0" encoding="UTF-8"?>\n' + body + "\n"
+    rest = list(root)[at:] if at is not None else []
+    del root[len(root) - len(rest):]
+    head = ET.tostring(root, encoding="unicode", short_empty_elements=True)
+    # the root's end tag (or, childless, the end of its empty-element tag) comes off
+    head = head[:-len("</svg>")] if len(root) else head[:-len(" />")] + ">"
+    tail = "".join(ET.tostring(el, encoding="unicode", short_empty_elements=True)
+                   for el in rest)
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + head + layers + tail + "</svg>\n"
+
+
+# --------------------------------------------------------------------------
+# the big layers as SVG text
+# --------------------------------------------------------------------------
+# Routes, outlets and boards run to tens of thousands of elements on a whole
+# building; building an element tree for each and serialising it took most of
+# the render time.  These functions write the same markup as text: the bytes
+# ElementTree writes for the same elements (attributes in the order given,
+# values escaped by _attr, text by _cdata, " />" closing empty elements).
+
+def _cdata(text: str) -> str:
+    """Text content escaped as ElementTree escapes it (``& < >``)."""
+    if "&" in text:
+        text = text.replace("&", "&amp;")
+    if "<" in text:
+        text = text.replace("<", "&lt;")
+    if ">" in text:
+        text = text.replace(">", "&gt;")
+    return text
+
+
+def _attr(text: str) -> str:
+    """An attribute value escaped as ElementTree escapes it (``& < > "`` and
+    CR, LF, tab as character references, so they survive attribute-value
+    normalisation)."""
+    text = _cdata(text)
+    if '"' in text:
+        text = text.replace('"', "&quot;")
+    if "\r" in text:
+        text = text.replace("\r", "&#13;")
+    if "\n" in text:
+        text = text.replace("\n", "&#10;")
+    if "\t" in text:
+        text = text.replace("\t", "&#09;")
+    return text
+
+
+def _element(tag: str, attrs, text: str | None = None) -> str:
+    """One element with ``attrs`` (name, value) in the order given and optional text."""
+    a = "".join(f' {k}="{_attr(v)}"' for k, v in attrs)
+    if text:
+        return f"<{tag}{a}>{_cdata(text)}</{tag}>"
+    return f"<{tag}{a} />"
+
+
+def _group(open_tag: str, children: list[str]) -> str:
+    """``<g ...>children</g>``, or ``<g ... />`` when empty (as ElementTree writes it)."""
+    if not children:
+        return open_tag[:-1] + " />"
+    return open_tag + "".join(children) + "</g>"
+
+
+def _route_layers(drawn, paper) -> str:
+    """The white casings under the routes, then the routes in their band's style.
+
+    Each route is a ``polyline`` carrying its circuit, band and status as
+    ``data-`` attributes and its label text as a ``title`` (a tooltip in
+    viewers)."""
+    casings, lines = [], []
+    for r in drawn:
+        points = _points_text(paper[r.index])
+        casings.append(f'<polyline points="{points}" stroke-width="{_f(r.width + CASING_MM)}" />')
+        attrs = [("class", f"route route-{r.band}"), ("data-band", r.band),
+                 ("data-circuit", r.key), ("data-status", r.status), ("points", points),
+                 ("stroke", r.colour)]
+        if r.dash:
+            attrs.append(("stroke-dasharray", r.dash))
+        attrs.append(("stroke-width", _f(r.width)))
+        a = "".join(f' {k}="{_attr(v)}"' for k, v in attrs if v)
+        label = str(r.label)
+        title = f"<title>{_cdata(label)}</title>" if label else "<title />"
+        lines.append(f"<polyline{a}>{title}</polyline>")
+    return (_group('<g fill="none" id="zs-casings" opacity="0.85" stroke="#ffffff" '
+                   'stroke-linecap="round" stroke-linejoin="round">', casings)
+            + _group('<g fill="none" id="zs-routes" stroke-linecap="butt" '
+                     'stroke-linejoin="round">', lines))
+
+
+def _outlet_layer(plan, routes, lay, sym: float) -> tuple[str, np.ndarray]:
+    """Every outlet's symbol on a white halo; returns the layer and the symbols' centres."""
+    at = [o.at for c in plan.circuits for o in c.outlets]
+    if not at:
+        return '<g id="zs-outlets" />', np.zeros((0, 2))
+    at = np.asarray(at, dtype=float).reshape(-1, 2)
+    xs, ys = lay.to_paper(at[:, 0], at[:, 1])
+    kinds = [o.kind if o.kind in SYMBOL_IDS else "fixed" for c in plan.circuits for o in c.outlets]
+    symbols = use_attributes_many(kinds, xs, ys, sym, INK)
+    cx, cy = _fs(xs), _fs(ys)
+    halo = f'" fill="#ffffff" fill-opacity="0.9" r="{_f(sym * 0.5)}" />'
+    classes = {k: f' class="outlet outlet-{_attr(k)}"' for k in SYMBOL_IDS}
+    by_key = {r.index: r for r in routes}
+    out = []
+    n = 0
+    for i, c in enumerate(plan.circuits):
+        circuit = f' data-circuit="{_attr(by_key[i].key)}"'
+        for o in c.outlets:
+            out.append(f'<circle cx="{cx[n]}" cy="{cy[n]}{halo}')
+            name = f' data-name="{_attr(o.name)}"' if o.name else ""
+            out.append(f"<use {symbols[n]}{classes[kinds[n]]}{circuit}{name} />")
+            n += 1
+    return _group('<g id="zs-outlets">', out), np.column_stack([xs, ys])
+
+
+def _board_layer(plan, lay, bsize: float, da) -> tuple[str, list]:
+    """Every board's symbol with its reference beside it; returns the layer and the
+    boxes (symbol and reference) that labels must keep clear of."""
+    out, boxes = [], []
+    for b in plan.boards:
+        if b.at is None:
+            continue
+        x, y = lay.to_paper(b.at[0], b.at[1])
+        x, y = float(x), float(y)
+        out.append(_element("rect", [("fill", "#ffffff"), ("height", _f(bsize)),
+                                     ("width", _f(bsize)), ("x", _f(x - bsize / 2)),
+                                     ("y", _f(y - bsize / 2))]))
+        out.append(f'<use {use_attributes("board", x, y, bsize, INK)} class="board" '
+                   f'data-board="{_attr(b.ref)}" />')
+        boxes.append(box(x - bsize / 2, y - bsize / 2, x + bsize / 2, y + bsize / 2))
+        # board reference, placed above-left of the symbol where it fits
+        fs = 3.0
+        w = text_width(b.ref, fs, True)
+        tx, ty = x - bsize / 2 - 0.8 - w, y - bsize / 2 - 0.6
+        if tx < da.x + 1:
+            tx = x + bsize / 2 + 0.8
+        out.append(_element("text", [("class", "board-ref"), ("fill", INK), ("font-family", FONT),
+                                     ("font-size", _f(fs)), ("font-weight", "bold"),
+                                     ("x", _f(tx)), ("y", _f(ty))], b.ref))
+        boxes.append(box(tx - 0.3, ty - fs * 0.8, tx + w + 0.3, ty + fs * 0.25))
+    return _group('<g id="zs-boards">', out), boxes
+
+
+def _lines(routes) -> list:
+    """Shapely lines of routes (arrays of two or more points), made at once."""
+    if not routes:
+        return []
+    coords = np.concatenate(routes)
+    index = np.repeat(np.arange(len(routes)), [len(r) for r in routes])
+    return list(shapely.linestrings(coords, indices=index))
 
 
 def _legend_gradients(defs: ET.Element, tight: float) -> None:

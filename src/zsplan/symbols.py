@@ -23,8 +23,10 @@ from xml.etree import ElementTree as ET
 from xml.sax.saxutils import quoteattr
 
 import defusedxml.ElementTree as SafeET
+import numpy as np
 
-__all__ = ["SYMBOL_IDS", "SYMBOL_SIZE_MM", "symbol_defs", "symbol_svg", "use"]
+__all__ = ["SYMBOL_IDS", "SYMBOL_SIZE_MM", "symbol_defs", "symbol_svg", "use",
+           "use_attributes", "use_attributes_many"]
 
 _SVG_NS = "http://www.w3.org/2000/svg"
 
@@ -122,9 +124,39 @@ def use(kind: str, x_mm: float, y_mm: float, size_mm: float = SYMBOL_SIZE_MM,
         An SVG ``<use>`` element with an SVG 2 ``href`` (read by cairosvg,
         browsers and current editors; no ``xlink`` namespace needed).
     """
-    _check_kind(kind)
+    return f"<use {use_attributes(kind, x_mm, y_mm, size_mm, colour)}/>"
+
+
+def use_attributes(kind: str, x_mm: float, y_mm: float, size_mm: float = SYMBOL_SIZE_MM,
+                   colour: str | None = None) -> str:
+    """The attributes of :func:`use`'s element, as markup (``href="#..." x="..." ...``),
+    for a renderer that writes the element itself and adds attributes of its own."""
+    return use_attributes_many([kind], [x_mm], [y_mm], size_mm, colour)[0]
+
+
+def use_attributes_many(kinds, xs_mm, ys_mm, size_mm: float = SYMBOL_SIZE_MM,
+                        colour: str | None = None) -> list[str]:
+    """:func:`use_attributes` of many symbols of one size and colour at once.
+
+    Parameters
+    ----------
+    kinds : sequence of str
+        Each one of the keys of :data:`SYMBOL_IDS`.
+    xs_mm, ys_mm : array_like
+        Insertion points, as many as ``kinds``. [mm]
+    size_mm, colour
+        As for :func:`use`.
+    """
+    refs = {k: f'href="#{SYMBOL_IDS[_check_kind(k)]}"' for k in dict.fromkeys(kinds)}
     h = size_mm / 2.0
-    ref = "#" + SYMBOL_IDS[kind]
+    # the viewport's top-left corner: the insertion point less half the size
+    xs = (np.asarray(xs_mm, dtype=float) - h).tolist()
+    ys = (np.asarray(ys_mm, dtype=float) - h).tolist()
+    tail = _size_and_colour(size_mm, colour)
+    return [f'{refs[k]} x="{x:.3f}" y="{y:.3f}" {tail}' for k, x, y in zip(kinds, xs, ys)]
+
+
+@lru_cache(maxsize=64)
+def _size_and_colour(size_mm: float, colour: str | None) -> str:
     col = f" color={quoteattr(colour)}" if colour else ""
-    return (f'<use href="{ref}" x="{x_mm - h:.3f}" y="{y_mm - h:.3f}" '
-            f'width="{size_mm:.3f}" height="{size_mm:.3f}"{col}/>')
+    return f'width="{size_mm:.3f}" height="{size_mm:.3f}"{col}'

@@ -51,6 +51,7 @@ from typing import Union
 import numpy as np
 
 from . import adiabatic, capacity, grouping, rcd, vdrop
+from ._runtime import gc_paused
 from .boards import board_levels, board_ze
 from .disconnection import required_time
 from .guards import plan_warnings
@@ -123,6 +124,14 @@ def check(plan: Union[Plan, str, os.PathLike], *, tolerance_m: float = DEFAULT_T
     if not isinstance(plan, Plan):
         from .loader import load_plan
         plan = load_plan(plan)
+    # arrays, geometries and records by the hundred thousand, no reference
+    # cycles: collections started by those allocations would walk the whole
+    # plan model each time (the time of a check then grows faster than the plan)
+    with gc_paused():
+        return _check(plan, tolerance_m)
+
+
+def _check(plan: Plan, tolerance_m: float) -> Results:
     lengths = circuit_lengths(plan, tolerance_m=tolerance_m)
     n = len(plan.circuits)
     subs = submain_results(plan)
@@ -268,7 +277,8 @@ def _capacity_step(plan: Plan, inp: dict, circ: dict) -> None:
     lines = grouping.route_lines([c.route for c in plan.circuits])
     level = np.array([c.run for c in plan.circuits], dtype=object)
     runs = grouping.shared_runs(lines, s.group_distance_m, s.group_min_length_m, level)
-    size = grouping.group_sizes(lines, s.group_distance_m, s.group_min_length_m, level, runs=runs)
+    groups = grouping.run_groups(lines, runs, s.group_distance_m)
+    size = grouping.group_sizes(lines, s.group_distance_m, s.group_min_length_m, level, groups=groups)
     it = capacity.tabulated_current(inp["line_mm2"], inp["method"], inp["construction"], inp["phases"],
                                     inp["insulation"], inp["material"])
     ca = capacity.ambient_factor(inp["ambient_c"], inp["insulation"])
@@ -278,8 +288,8 @@ def _capacity_step(plan: Plan, inp: dict, circ: dict) -> None:
     grouped_iz = capacity.current_capacity(it, ca, capacity.grouping_factor(size, s.grouping_arrangement), ci)
     light = np.isfinite(inp["load_a"]) & (size > 1) & (inp["load_a"] <= capacity.LIGHT_LOAD_FRACTION * grouped_iz)
     if np.any(light):
-        size = grouping.group_sizes(lines, s.group_distance_m, s.group_min_length_m, level, runs=runs,
-                                    counted=~light)
+        size = grouping.group_sizes(lines, s.group_distance_m, s.group_min_length_m, level,
+                                    groups=groups, counted=~light)
     cg = capacity.grouping_factor(size, s.grouping_arrangement)
     circ["lightly_loaded"] = light
     circ["group_size"] = size

@@ -35,7 +35,7 @@ import numpy as np
 
 __all__ = [
     "ALPHA", "alpha_methods", "temperature_factor", "resistance_20c",
-    "csa_available", "check_conductor", "design_temperatures", "one_material",
+    "csa_available", "check_conductor", "design_temperatures", "one_material", "resistances_20c",
 ]
 
 #: α per method and material [1/K].
@@ -52,13 +52,23 @@ SEPARATE_CPC_TEMPERATURE_C = 30.0
 
 def one_material(material) -> str | None:
     """The material of ``material`` when it is one string or an array of one value, else None."""
+    if type(material) is str:
+        return material
     if np.ndim(material) == 0:
         return str(material)
     m = np.asarray(material)
     if m.size == 0:
         return None
     first = m.flat[0]
-    return str(first) if bool(np.all(m == first)) else None
+    if m.dtype.kind == "U" and m.flags.c_contiguous:
+        # every element equals the one before it: compare the raw characters as
+        # integers, shifted by one element (a string comparison costs ten times more)
+        words = m.reshape(-1).view(np.uint64 if m.itemsize % 8 == 0 else np.uint32)
+        step = len(words) // m.size
+        same = not np.count_nonzero(np.not_equal(words[step:], words[:-step]))
+    else:
+        same = bool(np.all(m == first))
+    return str(first) if same else None
 
 
 def alpha_methods() -> list[str]:
@@ -66,7 +76,7 @@ def alpha_methods() -> list[str]:
     return list(ALPHA)
 
 
-def temperature_factor(theta_c, material="copper", method: str = "bs7671"):
+def temperature_factor(theta_c, material="copper", method: str = "bs7671", scale: float = 1.0, out=None):
     """Ratio :math:`R_\\theta / R_{20} = 1 + \\alpha(\\theta - 20)`.
 
     Parameters
@@ -77,11 +87,17 @@ def temperature_factor(theta_c, material="copper", method: str = "bs7671"):
         ``"copper"`` or ``"aluminium"``.
     method : str
         ``"bs7671"`` (α = 0.004 /K) or ``"iec60228"``.
+    scale : float
+        A constant the factor is multiplied by (``1/1000`` turns mΩ/m into
+        Ω/m); other than 1, an array factor is formed as
+        ``θ·(α·scale) + (1 − 20α)·scale``, two array operations instead of four.
+    out : numpy.ndarray, optional
+        Array for an array result of one material.
 
     Returns
     -------
     float or numpy.ndarray
-        The dimensionless factor.
+        The dimensionless factor (times ``scale``).
 
     Examples
     --------
@@ -93,17 +109,23 @@ def temperature_factor(theta_c, material="copper", method: str = "bs7671"):
     except KeyError:
         raise ValueError(f"unknown alpha method {method!r}; choose one of {alpha_methods()}") from None
     theta = np.asarray(theta_c, dtype=float)
-    mat = np.asarray(material)
-    if mat.ndim == 0:
-        alpha = table[str(mat)]
+    mat = material if type(material) is str else np.asarray(material)
+    if type(mat) is str or mat.ndim == 0:
+        alpha = table[mat if type(mat) is str else str(mat.item())]
         if theta.ndim == 0:
-            return 1.0 + alpha * (float(theta) - 20.0)
-        out = theta - 20.0
+            return (1.0 + alpha * (float(theta) - 20.0)) * scale
+        if scale != 1.0:
+            out = np.multiply(theta, alpha * scale, out=out)
+            out += (1.0 - 20.0 * alpha) * scale
+            return out
+        out = np.subtract(theta, 20.0, out=out)
         out *= alpha
         out += 1.0
         return out
     alpha = np.where(mat == "aluminium", table["aluminium"], table["copper"])
     out = 1.0 + alpha * (theta - 20.0)
+    if scale != 1.0:
+        out = out * scale
     return out if out.ndim else float(out)
 
 
@@ -162,6 +184,10 @@ def resistance_20c(csa_mm2, material="copper", conductor_class: int = 2):
         # one material (the usual case): a single look-up in the table
         sizes, res = _table()[(m, conductor_class)]
         csa = np.asarray(csa_mm2, dtype=float)
+        if csa.ndim:
+            exact = _exact_r20((csa,), m, conductor_class)
+            if exact is not None:
+                return exact[0]
         if csa.ndim == 0:
             idx = min(int(np.searchsorted(sizes + 1e-9, float(csa))), len(sizes) - 1)
             if not abs(sizes[idx] - float(csa)) <= 1e-9:
@@ -188,6 +214,81 @@ def resistance_20c(csa_mm2, material="copper", conductor_class: int = 2):
             raise ValueError(check_conductor(float(bad), str(m), conductor_class))
         out[sel] = res[idx]
     return out if out.ndim else float(out)
+
+
+def resistances_20c(*csa_mm2, material="copper", conductor_class: int = 2, out=None):
+    """:func:`resistance_20c` of several csa arrays of the same material(s) at once. [mΩ/m]
+
+    Equal to ``[resistance_20c(c, material, conductor_class) for c in csa_mm2]``;
+    when every csa is exactly a tabulated size, one check covers them all.
+    ``out``, an array of ``len(csa_mm2)`` rows of the csa arrays' shape,
+    receives the results (returned as its rows).
+    """
+    m = one_material(material)
+    if m is not None:
+        arrays = [c if type(c) is np.ndarray and c.dtype == np.float64 else np.asarray(c, dtype=float)
+                  for c in csa_mm2]
+        shape = arrays[0].shape
+        if shape and all(a.shape == shape for a in arrays):
+            exact = _exact_r20(arrays, m, conductor_class, out)
+            if exact is not None:
+                return exact
+    found = [resistance_20c(c, material, conductor_class) for c in csa_mm2]
+    if out is None:
+        return found
+    for row, r in zip(out, found):
+        row[...] = r
+    return list(out)
+
+
+#: The exact look-up keys a float64 csa by its bit pattern shifted right by this
+#: many bits: sign, exponent and the 8 leading mantissa bits remain.
+_KEY_SHIFT = 44
+
+
+@functools.lru_cache(maxsize=None)
+def _by_bits(material: str, conductor_class: int):
+    """R20 indexed by ``csa bits >> 44`` (NaN where no size), or None when that cannot name every size.
+
+    Every IEC 60228 size (1, 1.5, 2.5, 4, ... 300 mm²) has at most 8
+    significant mantissa bits: a csa that is exactly a tabulated size has zeros
+    in its 44 low bits, and its 20 high bits name the size.  The first and the
+    last entry are NaN, so clipped keys (negative or too large) find no size.
+    """
+    sizes, res = _table()[(material, conductor_class)]
+    bits = np.ascontiguousarray(sizes, dtype=float).view(np.int64)
+    if np.any(sizes <= 0) or np.any(bits & ((1 << _KEY_SHIFT) - 1)):
+        return None
+    keys = bits >> _KEY_SHIFT
+    table = np.full(int(keys.max()) + 2, np.nan)
+    table[keys] = res
+    table[0] = np.nan
+    return table
+
+
+def _exact_r20(arrays, material: str, conductor_class: int, out=None):
+    """R20 of same-shape csa arrays that are all exactly tabulated sizes, else None (then the
+    tolerant look-up decides).
+
+    One shift per array and one look-up for all (see :func:`_by_bits`), a
+    check of the low bits, and a maximum that is NaN if any size is unknown.
+    """
+    table = _by_bits(material, conductor_class)
+    if table is None:
+        return None
+    bits = [a.view(np.int64) for a in arrays]
+    low = 0
+    for b in bits:
+        low |= int(np.bitwise_or.reduce(b, axis=None))
+    if low & ((1 << _KEY_SHIFT) - 1):       # a low bit set somewhere: not exactly a size
+        return None
+    keys = np.empty((len(bits),) + bits[0].shape, dtype=np.int64)
+    for b, k in zip(bits, keys):
+        np.right_shift(b, _KEY_SHIFT, out=k)
+    out = table.take(keys, out=out, mode="clip")
+    if out.size and np.isnan(np.maximum.reduce(out, axis=None)):      # (NaN wins a maximum)
+        return None
+    return list(out)
 
 
 @functools.lru_cache(maxsize=None)
@@ -236,9 +337,18 @@ def design_temperatures(temp_rating_c, cpc_with_line):
     Returns
     -------
     (line_c, cpc_c) : tuple of float or numpy.ndarray
+        The same object twice when every cpc is with its line.
     """
-    rating, with_line = np.broadcast_arrays(np.asarray(temp_rating_c, dtype=float),
-                                            np.asarray(cpc_with_line, dtype=bool))
+    rating = temp_rating_c if type(temp_rating_c) is np.ndarray and temp_rating_c.dtype == np.float64 \
+        else np.asarray(temp_rating_c, dtype=float)
+    with_line = np.asarray(cpc_with_line, dtype=bool)
+    if with_line.shape == rating.shape or with_line.ndim == 0:
+        if np.count_nonzero(with_line) == with_line.size:     # every cpc with its line
+            line = float(rating) if rating.ndim == 0 else rating
+            return line, line
+    rating, with_line = np.broadcast_arrays(rating, with_line)
+    if with_line.all():
+        return (rating, rating)
     cpc = np.where(with_line, rating, SEPARATE_CPC_TEMPERATURE_C)
     if rating.ndim == 0:
         return float(rating), float(cpc)

@@ -37,8 +37,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .conductors import design_temperatures, one_material, resistance_20c, temperature_factor
-from .protection import CurveSet, current_for_time, operating_time
+from .conductors import design_temperatures, one_material, resistances_20c, temperature_factor
+from .protection import CurveSet, cell_times, current_for_time, operating_time
 
 __all__ = [
     "TEST_LIMIT_METHODS", "r1r2", "fault_current", "zs_limit", "test_zs_limit",
@@ -69,9 +69,36 @@ def r1r2(length_m, r1_mohm_per_m, r2_mohm_per_m, f1=1.0, f2=1.0, ring=False, spu
         Length of an unfused spur from the ring, added in full. [m]
     """
     per_m = (np.asarray(r1_mohm_per_m) * f1 + np.asarray(r2_mohm_per_m) * f2) / 1000.0
+    return _over_run(per_m, length_m, ring, spur_m)
+
+
+def _over_run(per_m, length_m, ring, spur_m, out=None):
+    """``per_m`` times the length that counts: L (radial), L/4 (a ring), plus any spur.
+
+    A ring's quarter is taken by lowering the binary exponent by two
+    (``ldexp``), which is exact: per_m·L/4 equals (per_m·L)/4 to the bit.
+    """
     length = np.asarray(length_m, dtype=float)
-    main = np.where(ring, length / 4.0, length)
-    return per_m * (main + np.asarray(spur_m, dtype=float))
+    ring = np.asarray(ring, dtype=bool)
+    quarter = None
+    if ring.ndim == 0:
+        quarter = -2 if ring else None
+    elif np.count_nonzero(ring):
+        # exponent step 0 or -2, as int32 (ldexp is fast with int32 exponents)
+        quarter = np.multiply(ring.view(np.int8), np.int32(-2))
+    if type(spur_m) is not float or spur_m != 0.0:
+        spur = np.asarray(spur_m, dtype=float)
+        if spur.ndim or spur != 0.0:      # the spur adds in full: form the length first
+            if quarter is not None:
+                length = np.ldexp(length, quarter)
+            return np.multiply(per_m, length + spur, out=out)
+    run = np.multiply(per_m, length, out=out)
+    if quarter is not None:
+        if run.ndim and np.shape(quarter) in ((), run.shape):
+            np.ldexp(run, quarter, out=run)
+        else:
+            run = np.ldexp(run, quarter)
+    return run
 
 
 def fault_current(ze_ohm, r1r2_ohm, u0_v=230.0, cmin=0.95):
@@ -106,22 +133,46 @@ def margin(zs_ohm, zs_max_ohm):
     """1 − Zs/Zs,max: positive passes, negative fails; −inf where Zs,max is 0."""
     zs_max = np.asarray(zs_max_ohm, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(zs_max > 0, 1.0 - np.asarray(zs_ohm) / zs_max, -np.inf)
+        m = np.divide(zs_ohm, zs_max)
+        return _margin_finish(m, zs_max, zs_max.size == 0 or zs_max.min() > 0)    # NaN fails
+
+
+def _margin_finish(ratio, zs_max, positive: bool):
+    """1 − ratio (in place for an array; ratio = Zs/Zs,max), −inf where Zs,max is not positive
+    (``positive``: known to be positive everywhere)."""
+    if type(ratio) is np.ndarray and ratio.ndim:
+        np.subtract(1.0, ratio, out=ratio)
+    else:
+        ratio = np.subtract(1.0, ratio)
+    if positive:
+        return ratio
+    return np.where(zs_max > 0, ratio, -np.inf)
 
 
 def evaluate(*, length_m, line_mm2, cpc_mm2, ze_ohm, curves: CurveSet, curve_index,
              t_required_s, material="copper", temp_rating_c=70.0, cpc_with_line=True,
              ring=False, spur_m=0.0, u0_v=230.0, cmin=0.95, test_temperature_c=20.0,
              alpha="bs7671", test_limit="rule-of-0.8") -> dict[str, np.ndarray]:
-    """Evaluate N circuits (or points) at once.
+    r"""Evaluate N circuits (or points) at once.
 
     Every argument broadcasts to the common shape; ``curves`` and
     ``curve_index`` come from :meth:`zsplan.protection.CurveSet.from_devices`.
 
-    The formulas are those of the module docstring.  Ia and Zs,max depend
-    only on the device and the required time, so they are found once per
-    distinct (curve, time) pair and then looked up; the test-temperature
-    R1+R2 is the design R1+R2 scaled by R(θ_test)/R(θ_design).
+    The formulas are those of the module docstring, arranged for few passes
+    over the arrays: with g = (1 + α(θ − 20))/1000 (the temperature factor
+    per 1000, mΩ to Ω) and L the length that counts (L/4 on a ring, plus a
+    spur),
+
+    .. math::
+
+        R_1 + R_2 = L\,(r_1 g_1 + r_2 g_2), \qquad
+        (R_1 + R_2)_{test} = L\,(r_1 + r_2)\,g_{test}
+
+    — one product L·(r1 + r2) serves both when every cpc is at its line's
+    temperature.  Ia and Zs,max depend only on the device and the required
+    time, so they are found once per distinct (curve, time) pair, kept with
+    the curves, and looked up; t(I) comes from
+    :func:`zsplan.protection.operating_time`.
 
     Returns
     -------
@@ -129,118 +180,193 @@ def evaluate(*, length_m, line_mm2, cpc_mm2, ze_ohm, curves: CurveSet, curve_ind
         ``r1r2_ohm`` (design temperature), ``r1r2_test_ohm`` (test
         temperature), ``zs_ohm``, ``fault_current_a``, ``disconnect_s``,
         ``disconnect_limit_s``, ``ia_a``, ``zs_max_ohm``, ``zs_test_max_ohm``,
-        ``margin``, ``line_c``, ``cpc_c``.
+        ``margin``, ``line_c``, ``cpc_c``.  The computed ones are views
+        into one block (keeping one keeps the block); those that repeat an
+        input are read-only views of it.
     """
     if test_limit not in TEST_LIMIT_METHODS:
         raise ValueError(f"unknown test-limit method {test_limit!r}; choose one of {TEST_LIMIT_METHODS}")
+    args = [length_m, line_mm2, cpc_mm2, ze_ohm, curve_index, t_required_s, material, temp_rating_c,
+            cpc_with_line, ring, spur_m, test_temperature_c, u0_v, cmin]
+    n = _flat_length(args)
+    if n is not None:
+        with np.errstate(all="ignore"):
+            return _evaluate_flat(n, *args, curves, alpha, test_limit)
+    # any other shapes: broadcast to one shape, evaluate flat, give the results that shape
+    shape = np.broadcast_shapes(*(np.shape(a) for a in args))
+    size = int(np.prod(shape))
+    flat = [np.broadcast_to(np.asarray(a, dtype=_AS_ARRAY[k]), shape).reshape(size) if k in _AS_ARRAY
+            else a if np.ndim(a) == 0 else np.broadcast_to(a, shape).reshape(size)
+            for k, a in enumerate(args)]
+    with np.errstate(all="ignore"):
+        out = _evaluate_flat(size, *flat, curves, alpha, test_limit)
+    return {k: v.reshape(shape) for k, v in out.items()}
+
+
+#: arguments (by position in ``evaluate``'s list) that the flat evaluation needs as arrays, and their type
+_AS_ARRAY = {0: float, 3: float, 4: np.intp}
+
+
+def _flat_length(args) -> int | None:
+    """N when length, Ze and curve index are 1-d arrays of N elements (float, float, intp)
+    and every other argument is such an array or a scalar; else None."""
+    length, ze, idx = args[0], args[3], args[4]
+    if type(length) is not np.ndarray or type(ze) is not np.ndarray or type(idx) is not np.ndarray:
+        return None
+    shape = length.shape
+    if len(shape) != 1 or ze.shape != shape or idx.shape != shape or length.dtype != np.float64 \
+            or ze.dtype != np.float64 or idx.dtype != np.intp:
+        return None
+    for a in args:
+        if type(a) is np.ndarray:
+            if a.shape != shape:
+                return None
+        elif not isinstance(a, (float, int, str, np.generic)):
+            return None
+    return shape[0]
+
+
+def _evaluate_flat(n, length, line, cpc, ze, idx, t_req, material, theta, with_line, ring, spur,
+                   theta_test, u0, cmin, curves, alpha, test_limit):
+    """:func:`evaluate` on 1-d arrays of ``n`` elements (or scalars).
+
+    Results and the larger intermediates share one allocation (13 rows of
+    ``n``): one large block per call instead of many medium ones, so the
+    allocator reuses it from call to call.
+    """
     mat = one_material(material)
     if mat is None:     # copper and aluminium mixed: per-element material
         mat = np.asarray(material)
-    shape = np.broadcast_shapes(*(np.shape(a) for a in (
-        length_m, line_mm2, cpc_mm2, ze_ohm, curve_index, t_required_s, material, temp_rating_c,
-        cpc_with_line, ring, spur_m, u0_v, cmin, test_temperature_c)))
-    b = lambda a: np.broadcast_to(np.asarray(a, dtype=float), shape)  # noqa: E731
-
-    # resistance per metre at the design temperature, and its test/design ratio
-    r1 = resistance_20c(line_mm2, mat)
-    r2 = resistance_20c(cpc_mm2, mat)
-    line_c, cpc_c = design_temperatures(temp_rating_c, cpc_with_line)
-    f1 = temperature_factor(line_c, mat, alpha)
-    ft = temperature_factor(test_temperature_c, mat, alpha)
-    if np.all(np.asarray(cpc_with_line)):      # cpc at the line's temperature
-        cpc_c = line_c
-        per_m = np.add(r1, r2)
-        per_m *= f1
-        ratio = np.divide(ft, f1)
+    work = np.empty((13, n))
+    rr, rr_test, zs, i_f, t_off, zs_test, marg = work[:7]
+    found = work[7:9].reshape(-1).view(complex)     # Ia and Zs,max, see _limits
+    r = work[9:11]
+    g1 = work[11]
+    base = work[12].view(np.int64)
+    # resistance at 20 °C [mΩ/m], temperature factors per 1000 [Ω/mΩ]
+    r1, r2 = resistances_20c(line, cpc, material=mat, out=r)
+    line_c, cpc_c = design_temperatures(theta, with_line)
+    g1 = temperature_factor(line_c, mat, alpha, scale=1e-3, out=g1 if type(mat) is str else None)
+    gt = temperature_factor(theta_test, mat, alpha, scale=1e-3)
+    if cpc_c is line_c:         # every cpc at its line's temperature
+        both = np.add(r1, r2, out=r1)
+        run = _over_run(both, length, ring, spur, out=both)          # L (r1 + r2)
+        np.multiply(run, g1, out=rr)
+        design = None
     else:
-        f2 = temperature_factor(cpc_c, mat, alpha)
-        per_m = np.multiply(r1, f1)
-        per_m += np.multiply(r2, f2)
-        ratio = np.add(r1, r2)
-        ratio *= ft
-        ratio /= per_m
-    per_m /= 1000.0
-
-    # R1+R2 over the run: a ring's worst point takes a quarter of the ring
-    length = np.asarray(length_m, dtype=float)
-    ring = np.asarray(ring, dtype=bool)
-    if ring.ndim == 0:
-        main = length / 4.0 if ring else length
-    elif ring.any():
-        main = np.array(np.broadcast_to(length, np.broadcast_shapes(length.shape, ring.shape)))
-        np.divide(main, 4.0, out=main, where=ring)
+        g2 = temperature_factor(cpc_c, mat, alpha, scale=1e-3)
+        design = np.multiply(r1, g1)
+        design += np.multiply(r2, g2)
+        _over_run(design, length, ring, spur, out=rr)
+        both = np.add(r1, r2)
+        run = _over_run(both, length, ring, spur, out=r1)
+    np.multiply(run, gt, out=rr_test)
+    np.add(ze, rr, out=zs)
+    if type(u0) is np.ndarray or type(cmin) is np.ndarray:
+        i_f[...] = fault_current(ze, rr, u0, cmin)
     else:
-        main = length
-    spur = np.asarray(spur_m, dtype=float)
-    if spur.ndim or spur != 0.0:
-        main = main + spur
-    rr = np.multiply(per_m, main)
-    rr_test = np.multiply(rr, ratio)
-    zs = np.add(ze_ohm, rr)
-    i_f = fault_current(ze_ohm, rr, u0_v, cmin) if np.ndim(u0_v) or np.ndim(cmin) else \
-        np.divide(float(cmin) * float(u0_v), zs)
-
-    ia, zs_max, zs_test_max = _limits(curves, curve_index, t_required_s, u0_v, cmin, test_limit,
-                                      ze_ohm, ratio, shape)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        m = np.asarray(np.divide(zs, zs_max))
-        np.subtract(1.0, m, out=m)
-    off = np.asarray(zs_max) <= 0
-    if off.any():
-        m = np.where(off, -np.inf, m)
+        np.divide(float(cmin) * float(u0), zs, out=i_f)
+    # each circuit's first entry in the curves' tables (cells for t(I), and Ia by required time)
+    stride = curves.cells()[0]
+    np.multiply(idx, stride, out=base)
+    if cell_times(curves, base, i_f, out=t_off) is None:     # a current beyond the cells' range
+        operating_time(curves, idx, i_f, out=t_off)
+    ia, zs_max, positive = _limits(curves, base, stride, t_req, u0, cmin, found)
+    if test_limit == "rule-of-0.8":
+        np.multiply(RULE_OF_EIGHT_TENTHS, zs_max, out=zs_test)
+    else:   # R(θ_test)/R(θ_design) = (r1 + r2) g_test / (r1 g1 + r2 g2)
+        ratio = np.divide(gt, g1) if design is None else np.divide(np.multiply(both, gt), design)
+        zs_test[...] = test_zs_limit(zs_max, ze, ratio, test_limit)
+    np.divide(zs, zs_max, out=marg)
+    marg = _margin_finish(marg, zs_max, positive)
     return {
-        "r1r2_ohm": b(rr),
-        "r1r2_test_ohm": b(rr_test),
-        "zs_ohm": b(zs),
-        "fault_current_a": b(i_f),
-        "disconnect_s": b(operating_time(curves, curve_index, i_f)),
-        "disconnect_limit_s": b(t_required_s),
-        "ia_a": b(ia),
-        "zs_max_ohm": b(zs_max),
-        "zs_test_max_ohm": b(zs_test_max),
-        "margin": b(m),
-        "line_c": b(line_c),
-        "cpc_c": b(cpc_c),
+        "r1r2_ohm": rr,
+        "r1r2_test_ohm": rr_test,
+        "zs_ohm": zs,
+        "fault_current_a": i_f,
+        "disconnect_s": t_off,
+        "disconnect_limit_s": _given(t_req, n),
+        "ia_a": ia,
+        "zs_max_ohm": zs_max,
+        "zs_test_max_ohm": zs_test,
+        "margin": marg,
+        "line_c": _given(line_c, n),
+        "cpc_c": _given(cpc_c, n),
     }
 
 
-def _limits(curves: CurveSet, curve_index, t_required_s, u0_v, cmin, test_limit, ze_ohm, ratio, shape):
-    """Ia, Zs,max and the test limit of every circuit.
+def _given(a, n: int) -> np.ndarray:
+    """An input (or a scalar) as a read-only float array of ``n`` elements."""
+    if type(a) is np.ndarray and a.dtype == np.float64 and a.shape == (n,):
+        view = a.view()
+        view.flags.writeable = False
+        return view
+    return np.broadcast_to(np.asarray(a, dtype=float), (n,))
+
+
+def _time_codes(t: np.ndarray):
+    """The distinct required times and each element's index among them.
+
+    The required time takes few values (0.4 s, 5 s, ...): one value, or
+    two told apart by one comparison, are found without sorting.
+    """
+    if t.ndim == 0:
+        return t.reshape(1), 0
+    if t.size == 0:
+        return np.zeros(1), 0
+    first = t[0]
+    other = t != first
+    k = np.count_nonzero(other)
+    if k == 0:
+        return np.array([first]), 0
+    second = t[other.argmax()]
+    if k == np.count_nonzero(t == second):
+        return np.array([first, second]), other
+    values, code = np.unique(t, return_inverse=True)      # many distinct times, or NaN among them
+    return values, code.reshape(t.shape)
+
+
+def _limits(curves: CurveSet, base, stride: int, t_required_s, u0_v, cmin, out=None):
+    """Ia and Zs,max of every circuit, and whether every Zs,max is positive.
 
     Ia(t) is found once for each distinct (curve, required time) pair, by
     :func:`zsplan.protection.current_for_time`, and looked up: the required
-    time takes few values (0.4 s, 5 s, ...), so the table is small.
+    time takes few values (0.4 s, 5 s, ...), so the table is small, and it
+    is kept with the curves for later calls with the same times.  Its row
+    for curve k starts at ``k * stride`` (``base`` holds that per circuit),
+    and each entry holds Ia and Zs,max together (as one complex number), so
+    one look-up finds both.
     """
-    idx = np.broadcast_to(np.asarray(curve_index, dtype=np.intp), shape)
-    t = np.broadcast_to(np.asarray(t_required_s, dtype=float), shape)
-    k_n = curves.size
-    values = code = None
-    if t.size == 0:
-        values, code = np.zeros(1), 0
+    t = t_required_s if type(t_required_s) is np.ndarray else np.asarray(t_required_s, dtype=float)
+    values, code = _time_codes(t)
+    nv = len(values)
+    scalar = type(u0_v) is not np.ndarray and type(cmin) is not np.ndarray
+
+    def build():
+        ia = current_for_time(curves, np.repeat(np.arange(curves.size), nv), np.tile(values, curves.size))
+        zs = zs_limit(ia, u0_v, cmin) if scalar else np.zeros_like(ia)
+        table = np.zeros((curves.size, stride), dtype=complex)
+        table[:, :nv].real = ia.reshape(curves.size, nv)
+        table[:, :nv].imag = zs.reshape(curves.size, nv)
+        return table.reshape(-1), bool(scalar and zs.min() > 0)
+
+    if nv <= 64 and nv <= stride:
+        key = ("limits", stride, tuple(values.tolist()), float(u0_v) if scalar else None,
+               float(cmin) if scalar else None)
+        table, positive = curves.cached(key, build)
     else:
-        lo, hi = t.min(), t.max()
-        if lo == hi or not np.isfinite(lo) or not np.isfinite(hi):
-            if lo == hi:
-                values, code = np.array([lo]), 0
-        else:
-            upper = t == hi
-            if np.count_nonzero(upper) + np.count_nonzero(t == lo) == t.size:
-                values, code = np.array([lo, hi]), upper
-    if values is None:      # many distinct times, or NaN among them
-        values, code = np.unique(t, return_inverse=True)
-        code = code.reshape(shape)
-    table_curve = np.repeat(np.arange(k_n), len(values))
-    table_time = np.tile(values, k_n)
-    ia_table = current_for_time(curves, table_curve, table_time)
-    slot = idx * len(values)
-    if not np.isscalar(code) or code != 0:
-        slot = slot + code
-    ia = np.take(ia_table, slot, mode="clip")
-    if np.ndim(u0_v) == 0 and np.ndim(cmin) == 0:
-        zs_table = zs_limit(ia_table, u0_v, cmin)
-        zs_max = np.take(zs_table, slot, mode="clip")
-        if test_limit == "rule-of-0.8":
-            return ia, zs_max, np.take(test_zs_limit(zs_table), slot, mode="clip")
-    else:
-        zs_max = zs_limit(ia, u0_v, cmin)
-    return ia, zs_max, test_zs_limit(zs_max, ze_ohm, ratio, test_limit)
+        return _limits_unique(curves, base // stride, values, code, u0_v, cmin)
+    found = table.take(base if nv == 1 else np.add(base, code), out=out, mode="wrap")
+    if scalar:
+        return found.real, found.imag, positive
+    return found.real, zs_limit(found.real, u0_v, cmin), False
+
+
+def _limits_unique(curves: CurveSet, idx, values, code, u0_v, cmin):
+    """:func:`_limits` for many distinct required times: a table per call."""
+    nv = len(values)
+    ia_table = current_for_time(curves, np.repeat(np.arange(curves.size), nv), np.tile(values, curves.size))
+    slot = idx * nv + code
+    ia = ia_table.take(slot)
+    zs_max = zs_limit(ia, u0_v, cmin)
+    return ia, zs_max, False

@@ -50,7 +50,7 @@ import yaml
 
 __all__ = [
     "Curve", "DeviceFamily", "families", "family", "curve_for", "check_device",
-    "breaker_points", "CurveSet", "operating_time", "current_for_time",
+    "breaker_points", "CurveSet", "operating_time", "cell_times", "current_for_time",
     "register_family_file",
 ]
 
@@ -222,6 +222,13 @@ def curve_for(device) -> Curve:
     return _curve(device.family, device.curve, device.rating_a)
 
 
+#: :meth:`CurveSet.cells` keys a current by its float64 bits shifted right by
+#: this many: sign, exponent and 5 mantissa bits remain (32 cells an octave).
+_CELL_SHIFT = 47
+#: Currents :meth:`CurveSet.cells` covers [A]; others take the exact search.
+_CELL_RANGE_A = (2.0 ** -16, 2.0 ** 24)
+
+
 class CurveSet:
     """Many curves packed into padded arrays, for vectorised evaluation.
 
@@ -244,6 +251,16 @@ class CurveSet:
         self.width = n
         self.curves = tuple(curves)
         self._segments = None
+        self._cells = None
+        self._tables: dict = {}
+
+    def cached(self, key, build):
+        """``build()``, kept under ``key`` for later calls: for tables of this
+        set's curves (their size grows with the number of curves, not of circuits)."""
+        table = self._tables.get(key)
+        if table is None:
+            table = self._tables[key] = build()
+        return table
 
     def segments(self):
         """Flat look-up tables for :func:`operating_time`, built on first use.
@@ -255,7 +272,7 @@ class CurveSet:
         ``t = t0 * exp(s * (log I - x0))``.  Slot 0 (below the first point)
         holds ``t0 = inf``; slots from ``npts`` on (beyond the last point) hold
         the last time with ``s = 0``.  Returns ``(t0, x0, s, columns)``, with
-        ``columns`` the curves' log currents column by column.
+        ``columns`` the curves' currents column by column (padding: inf).
         """
         if getattr(self, "_segments", None) is None:
             k_n, w = self.size, self.width
@@ -272,8 +289,59 @@ class CurveSet:
                 slope[k, 1:n] = np.where(di != 0, np.diff(lt) / np.where(di != 0, di, 1.0), 0.0)
                 t0[k, n:] = self.tim[k, n - 1]
             self._segments = (t0.ravel(), x0.ravel(), slope.ravel(),
-                              [np.ascontiguousarray(c) for c in self.log_i.T])
+                              [np.ascontiguousarray(c) for c in self.cur.T])
         return self._segments
+
+    def cells(self):
+        """Look-up tables of t(I) by current cell, for :func:`cell_times`; built on first use.
+
+        A cell is the range of currents whose float64 bit patterns agree but
+        for the last 47 bits (sign, exponent and 5 mantissa bits: 32 cells an
+        octave), from 2^-16 A to 2^24 A.  Where a cell holds none of a
+        curve's points, every current in it is at or above the same points of
+        that curve, so it lies on one segment (a slot of :meth:`segments`);
+        if that is below the first point, t = inf, if beyond the last, t = the
+        last time (the flat ends of :func:`operating_time`).  Where a cell
+        holds points of one current (one point, or the two of a vertical
+        step), a current below them is on the slot before them, one from
+        them on on the slot after them.
+
+        Returns ``(n, times, slots, split)``: curve ``k``'s cell for a
+        current whose key (bits >> 47) is ``key`` sits at ``k * n + key`` in
+        ``times`` and ``slots`` (both start with unused entries up to the
+        first key).  ``times`` holds t on the flat ends and NaN elsewhere;
+        ``slots`` the segment's slot, or ``-1 - j`` for a cell that holds
+        points, described by element ``j`` of the arrays ``split = (current,
+        slot below, slot from it on)`` (current NaN: points of several
+        currents, to be counted).  The tables' size grows with the number of
+        curves: about 20 kB a curve.
+        """
+        if getattr(self, "_cells", None) is None:
+            first, last = (int(np.float64(a).view(np.int64) >> _CELL_SHIFT) for a in _CELL_RANGE_A)
+            n = last - first
+            edges = (np.arange(first, last + 1, dtype=np.int64) << _CELL_SHIFT).view(np.float64)
+            # the entries before the first key are never read: left as allocated (not touched)
+            times, slots = np.empty(first + self.size * n), np.empty(first + self.size * n, dtype=np.intp)
+            times[first:] = np.nan
+            split = ([], [], [])
+            for k, c in enumerate(self.curves):
+                cur = np.asarray(c.current_a)
+                below = np.searchsorted(cur, edges[:-1], side="right")      # points <= lower edge
+                inside = np.searchsorted(cur, edges[1:], side="left") - below   # points within
+                row = slice(first + k * n, first + (k + 1) * n)
+                times[row][(inside == 0) & (below == 0)] = np.inf
+                times[row][(inside == 0) & (below >= len(cur))] = c.time_s[-1]
+                slots[row] = k * (self.width + 1) + below
+                held = np.flatnonzero(inside)
+                lo, hi = cur[below[held]], cur[below[held] + inside[held] - 1]
+                slots[row][held] = -1 - (len(split[0]) + np.arange(len(held)))
+                split[0].extend(np.where(lo == hi, lo, np.nan))
+                split[1].extend(k * (self.width + 1) + below[held])
+                split[2].extend(k * (self.width + 1) + below[held] + inside[held])
+            split = (np.array(split[0], dtype=float), np.array(split[1], dtype=np.intp),
+                     np.array(split[2], dtype=np.intp))
+            self._cells = (n, times, slots, split)
+        return self._cells
 
     @classmethod
     def from_devices(cls, devices: Iterable) -> tuple["CurveSet", np.ndarray]:
@@ -288,7 +356,7 @@ class CurveSet:
         return cls(curves), np.asarray(idx, dtype=np.intp)
 
 
-def operating_time(curves: CurveSet, index, current_a):
+def operating_time(curves: CurveSet, index, current_a, out=None):
     """Longest operating time t(I) of each device at its current. [s]
 
     Parameters
@@ -298,44 +366,105 @@ def operating_time(curves: CurveSet, index, current_a):
         Curve of each query.
     current_a : array-like
         Current through each device. [A]
+    out : numpy.ndarray, optional
+        Array for the result (1-d queries).
 
     Returns
     -------
     numpy.ndarray
         ``inf`` below the first tabulated point; the last point's time
         beyond the last point.
+
+    Notes
+    -----
+    Currents on a flat end of their curve (below the first point, beyond
+    the last) are answered from :meth:`CurveSet.cells` with one look-up; the
+    others take their segment from the cell (or, in a cell that holds a
+    point, count the curve's points at or below the current) and evaluate
+    the segment's log-log line.
     """
     index = np.asarray(index, dtype=np.intp)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        x = np.log(np.asarray(current_a, dtype=float))
-    x, index = np.broadcast_arrays(x, index)
-    shape = x.shape
-    x, index = x.reshape(-1), index.reshape(-1)
-    t0, x0, slope, columns = curves.segments()
-    # j: how many of the curve's points lie at or below the query, counted
-    # column by column into small reused buffers (no N x P table)
-    buf = np.empty(x.shape)
-    hit = np.empty(x.shape, dtype=bool)
-    j = np.zeros(x.shape, dtype=np.int8 if curves.width < 127 else np.intp)
+    current = np.asarray(current_a, dtype=float)
+    if current.ndim == 1 and index.shape == current.shape and current.size:
+        t = cell_times(curves, index * curves.cells()[0], current, out)
+        if t is not None:
+            return t
+    current, index = np.broadcast_arrays(current, index)
+    shape = current.shape
+    current, index = current.reshape(-1), index.reshape(-1)
+    slot = _count_slot(curves, index, current)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        t = _on_segment(curves, slot, current)
+        odd = ~np.isfinite(np.log(current))
+    if odd.any():     # log I = -inf or nan: below the curve; +inf: beyond it
+        t[odd] = curves.segments()[0][slot[odd]]
+    t = t.reshape(shape)
+    if out is not None:
+        out[...] = t
+        return out
+    return t
+
+
+def cell_times(curves: CurveSet, base, current, out=None):
+    """t(I) of 1-d currents by :meth:`CurveSet.cells`, or None when a current lies outside their range.
+
+    ``base`` is each query's curve index times ``curves.cells()[0]`` (its
+    first cell), so that a caller who needs it for other tables too forms it
+    once.  One look-up answers the flat ends; the others find their segment
+    from the cell and evaluate its line.
+    """
+    if not current.size:
+        return np.empty(0) if out is None else out
+    if not (current.min() >= _CELL_RANGE_A[0] and current.max() < _CELL_RANGE_A[1]):    # (NaN fails)
+        return None
+    n, times, slots, split = curves.cells()
+    cell = current.view(np.int64) >> _CELL_SHIFT
+    cell += base
+    t = times.take(cell, out=out, mode="wrap")
+    rest = np.isnan(t).nonzero()[0]
+    if rest.size:
+        slot = slots.take(cell[rest])
+        part = current[rest]
+        held = (slot < 0).nonzero()[0]      # in a cell that holds points: below them or from them on
+        if held.size:
+            j = -1 - slot[held]
+            at = split[0].take(j)
+            slot[held] = np.where(part[held] >= at, split[2].take(j), split[1].take(j))
+            several = held[np.isnan(at)]    # points of several currents in the cell: count them
+            if several.size:
+                slot[several] = _count_slot(curves, base[rest[several]] // n, part[several])
+        t[rest] = _on_segment(curves, slot, part)
+    return t
+
+
+def _count_slot(curves: CurveSet, index, current):
+    """Slot (see :meth:`CurveSet.segments`) of each 1-d query: its curve's points at or below it, counted."""
+    columns = curves.segments()[3]
+    # counted column by column into small reused buffers (no N x P table)
+    buf = np.empty(current.shape)
+    hit = np.empty(current.shape, dtype=bool)
+    j = np.zeros(current.shape, dtype=np.int8 if curves.width < 127 else np.intp)
     for col in columns:
         np.take(col, index, out=buf, mode="clip")
-        np.less_equal(buf, x, out=hit)
+        np.less_equal(buf, current, out=hit)
         j += hit
     slot = index * (curves.width + 1)
     slot += j
-    # t = t0 exp(s (x - x0)) on the slot's segment (exact at the points)
-    np.take(x0, slot, out=buf, mode="clip")
-    with np.errstate(invalid="ignore", over="ignore"):
-        np.subtract(x, buf, out=buf)
-        other = np.take(slope, slot, mode="clip")
-        buf *= other
-        np.exp(buf, out=buf)
-        np.take(t0, slot, out=other, mode="clip")
-        buf *= other
-    odd = ~np.isfinite(x)
-    if odd.any():     # log I = -inf or nan: below the curve; +inf: beyond it
-        buf[odd] = other[odd]
-    return buf.reshape(shape)
+    return slot
+
+
+def _on_segment(curves: CurveSet, slot, current):
+    """t = t0 exp(s (log I - x0)) on each query's segment (exact at the points).
+
+    A current of 0, inf or NaN gives NaN (and warnings): the caller answers those.
+    """
+    t0, x0, slope, _ = curves.segments()
+    buf = np.log(current)
+    buf -= x0.take(slot)
+    buf *= slope.take(slot)
+    np.exp(buf, out=buf)
+    buf *= t0.take(slot)
+    return buf
 
 
 def current_for_time(curves: CurveSet, index, time_s):

@@ -468,8 +468,12 @@ def report(all_res: dict, sizes: list[int], plans: dict) -> str:
         x = all_res[50000]["e2e"]["t"] / all_res[10000]["e2e"]["t"]
         w(f"  time(50k)/time(10k) <= {SCALING_50K_10K} (e2e): {x:.2f}  {verdict(x <= SCALING_50K_10K)}")
     if 50000 in all_res:
-        peak = max(all_res[50000][s]["rss"] for s in STAGES)
-        w(f"  peak memory at 50k under {PEAK_50K_MB:g} MB (largest step): {peak:.0f} MB  {verdict(peak < PEAK_50K_MB)}")
+        # zsplan's own steps: the yaml-C floor builds the whole document as Python objects
+        own = [s for s in STAGES if s != "yaml-C"]
+        step = max(own, key=lambda s: all_res[50000][s]["rss"])
+        peak = all_res[50000][step]["rss"]
+        w(f"  peak memory at 50k under {PEAK_50K_MB:g} MB (largest zsplan step, {step}): {peak:.0f} MB  "
+          f"{verdict(peak < PEAK_50K_MB)}")
     for n in sizes:
         p = all_res[n].get("peer")
         if p and "max_rel_err" in p:

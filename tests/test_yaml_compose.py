@@ -7,6 +7,7 @@ node) or the same error.
 """
 from __future__ import annotations
 
+import dataclasses
 import gc
 import textwrap
 import weakref
@@ -143,7 +144,7 @@ def test_defaults_after_the_circuits_give_the_same_plan():
     a = load_plan_text(_plan(20, defaults_first=True))
     b = load_plan_text(_plan(20, defaults_first=False))
     assert a.circuits == tuple(
-        c.__class__(**{**c.__dict__, "where": a.circuits[i].where}) for i, c in enumerate(b.circuits))
+        dataclasses.replace(c, where=a.circuits[i].where) for i, c in enumerate(b.circuits))
     assert all(c.ceiling_m == 2.5 and c.cable.line_mm2 == 2.5 for c in b.circuits)
 
 

@@ -23,7 +23,7 @@ DEVICE_TYPES = ("mcb", "rcbo", "fuse")
 MATERIALS = ("copper", "aluminium")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Where:
     """Where a value came from, for error messages."""
 
@@ -84,7 +84,7 @@ class Cable:
         return f"{self.line_mm2:g}/{self.cpc_mm2:g} mm²{mat} {self.temp_rating_c:g}°C"
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Outlet:
     at: Point
     height_m: float
@@ -118,7 +118,7 @@ class Board:
     where: Where = Where()
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Circuit:
     ref: str
     board: str

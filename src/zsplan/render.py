@@ -523,7 +523,7 @@ def render_svg(results, *, sheet="A3", orientation=None, scale="fit", measured=N
         dwg.add(_unlabelled_note(dwg, da, left_out))
 
     _frame_and_title_block(dwg, lay, results, routes, measured, underlay, _date_text(date))
-    return _serialise(dwg, "".join(layers), at)
+    return _serialise(dwg, layers, at)
 
 
 def _unlabelled_note(dwg, da, keys):
@@ -557,9 +557,11 @@ def _sheet_drawing(sh):
     return dwg
 
 
-def _serialise(dwg, layers: str = "", at: int | None = None) -> str:
-    """The document as text; ``layers`` (SVG markup) goes in after the first ``at``
-    elements of ``dwg`` (default: after all of them)."""
+def _serialise(dwg, layers=(), at: int | None = None) -> str:
+    """The document as text; ``layers`` (pieces of SVG markup) go in after the
+    first ``at`` elements of ``dwg`` (default: after all of them).  The pieces
+    are joined once, into the document itself (on a whole building they run to
+    tens of megabytes)."""
     root = dwg.get_xml()
     if not layers:
         body = ET.tostring(root, encoding="unicode", short_empty_elements=True)
@@ -571,7 +573,7 @@ def _serialise(dwg, layers: str = "", at: int | None = None) -> str:
     head = head[:-len("</svg>")] if len(root) else head[:-len(" />")] + ">"
     tail = "".join(ET.tostring(el, encoding="unicode", short_empty_elements=True)
                    for el in rest)
-    return '<?xml version="1.0" encoding="UTF-8"?>\n' + head + layers + tail + "</svg>\n"
+    return "".join(['<?xml version="1.0" encoding="UTF-8"?>\n', head, *layers, tail, "</svg>\n"])
 
 
 # --------------------------------------------------------------------------
@@ -622,7 +624,7 @@ def _group(open_tag: str, children: list[str]) -> str:
     """``<g ...>children</g>``, or ``<g ... />`` when empty (as ElementTree writes it)."""
     if not children:
         return open_tag[:-1] + " />"
-    return open_tag + "".join(children) + "</g>"
+    return "".join([open_tag, *children, "</g>"])      # one copy of the text, not three
 
 
 def _route_layers(drawn, paper) -> str:
@@ -645,10 +647,10 @@ def _route_layers(drawn, paper) -> str:
         label = str(r.label)
         title = f"<title>{_cdata(label)}</title>" if label else "<title />"
         lines.append(f"<polyline{a}>{title}</polyline>")
-    return (_group('<g fill="none" id="zs-casings" opacity="0.85" stroke="#ffffff" '
-                   'stroke-linecap="round" stroke-linejoin="round">', casings)
-            + _group('<g fill="none" id="zs-routes" stroke-linecap="butt" '
-                     'stroke-linejoin="round">', lines))
+    casings = _group('<g fill="none" id="zs-casings" opacity="0.85" stroke="#ffffff" '
+                     'stroke-linecap="round" stroke-linejoin="round">', casings)
+    return "".join([casings, _group('<g fill="none" id="zs-routes" stroke-linecap="butt" '
+                                    'stroke-linejoin="round">', lines)])
 
 
 def _outlet_layer(plan, routes, lay, sym: float) -> tuple[str, np.ndarray]:
@@ -669,9 +671,9 @@ def _outlet_layer(plan, routes, lay, sym: float) -> tuple[str, np.ndarray]:
     for i, c in enumerate(plan.circuits):
         circuit = f' data-circuit="{_attr(by_key[i].key)}"'
         for o in c.outlets:
-            out.append(f'<circle cx="{cx[n]}" cy="{cy[n]}{halo}')
             name = f' data-name="{_attr(o.name)}"' if o.name else ""
-            out.append(f"<use {symbols[n]}{classes[kinds[n]]}{circuit}{name} />")
+            out.append(f'<circle cx="{cx[n]}" cy="{cy[n]}{halo}'
+                       f"<use {symbols[n]}{classes[kinds[n]]}{circuit}{name} />")
             n += 1
     return _group('<g id="zs-outlets">', out), np.column_stack([xs, ys])
 

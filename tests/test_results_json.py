@@ -1,7 +1,8 @@
-"""The JSON results document written in pieces equals the document written whole.
+"""The JSON results document written in pieces.
 
-Reference: Python's ``json.dumps`` of :meth:`Results.to_dict` (the version-1
-contract's document, docs/plan-format.md) is the text the pieces must join to.
+Reference: the version-1 contract's document is :meth:`Results.to_dict`
+(docs/plan-format.md); Python's ``json`` module is the independent reader:
+the joined pieces must parse to exactly that document.
 """
 from __future__ import annotations
 
@@ -14,17 +15,24 @@ from zsplan.demo import demo_path
 from zsplan.loader import load_plan, load_plan_text
 
 
-def _whole(res):
-    return json.dumps(res.to_dict(), ensure_ascii=False, indent=2, allow_nan=False)
+def _doc(res):
+    # the document as JSON values (tuples read back as lists)
+    return json.loads(json.dumps(res.to_dict(), ensure_ascii=False, allow_nan=False))
 
 
 @pytest.mark.parametrize("name", ["flat.yaml", "workshop.yaml"])
 @pytest.mark.parametrize("batch", [1, 2, 500])
-def test_pieces_join_to_the_whole_document(name, batch):
+def test_pieces_parse_to_the_document_with_a_record_a_line(name, batch):
     res = zsplan.check(load_plan(demo_path(name)))
     text = "".join(res.json_pieces(batch=batch))
-    assert text == _whole(res)
-    assert json.loads(text)["summary"] == res.to_dict()["summary"]
+    doc = json.loads(text)
+    assert doc == _doc(res)
+    assert list(doc) == ["zsplan", "plan", "circuits", "submains", "summary"]
+    lines = text.split("\n")
+    records = [ln for ln in lines if ln.startswith("    {")]
+    assert len(records) == len(doc["circuits"]) + len(doc["submains"])
+    assert [json.loads(ln.rstrip(",")) for ln in records] == doc["circuits"] + doc["submains"]
+    assert text == "".join(res.json_pieces(batch=7))          # the same text whatever the batch
 
 
 def test_one_circuit_no_submains_and_text_that_needs_escaping():
@@ -37,6 +45,9 @@ def test_one_circuit_no_submains_and_text_that_needs_escaping():
         '    outlets: [{at: [5, 0], height: 0.45 m}]\n', file="one.yaml")
     res = zsplan.check(plan)
     text = "".join(res.json_pieces())
-    assert text == _whole(res)
-    assert json.loads(text)["circuits"][0]["name"] == 'Line\nbreak "quoted" é ☃'
-    assert json.loads(text)["submains"] == []
+    doc = json.loads(text)
+    assert doc == _doc(res)
+    assert doc["circuits"][0]["name"] == 'Line\nbreak "quoted" é ☃'
+    assert doc["submains"] == []
+    # {, zsplan, plan, "circuits": [, the record, ], submains, summary, }
+    assert len(text.split("\n")) == 9

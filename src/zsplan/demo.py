@@ -20,7 +20,6 @@ after one command.  It refuses to replace files of the same names unless
 """
 from __future__ import annotations
 
-import json
 import os
 import sys
 from dataclasses import dataclass
@@ -155,8 +154,7 @@ def run_demo(folder: str | os.PathLike = "zsplan-demo", *, plan: str = "flat",
     files = {k: folder / v for k, v in d.outputs.items()}
     text = "\n".join(check_lines(results, glyphs=Glyphs())) + "\n"
     write_atomic(files["check_text"], text, inputs=inputs)
-    doc = json.dumps(results.to_dict(), ensure_ascii=False, indent=2, allow_nan=False)
-    write_atomic(files["check_json"], doc + "\n", inputs=inputs)
+    write_atomic(files["check_json"], "".join(results.json_pieces()) + "\n", inputs=inputs)
 
     progress.step("drawing the plan (PDF)", 3, steps)
     render.write_drawing(results, files["pdf"], sheet="A3", inputs=inputs)

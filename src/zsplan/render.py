@@ -585,31 +585,30 @@ def _serialise(dwg, layers=(), at: int | None = None) -> str:
 # ElementTree writes for the same elements (attributes in the order given,
 # values escaped by _attr, text by _cdata, " />" closing empty elements).
 
-def _cdata(text: str) -> str:
-    """Text content escaped as ElementTree escapes it (``& < >``)."""
-    if "&" in text:
-        text = text.replace("&", "&amp;")
-    if "<" in text:
-        text = text.replace("<", "&lt;")
-    if ">" in text:
-        text = text.replace(">", "&gt;")
+#: Text content escapes, as ElementTree writes them (``& < >``).
+_TEXT_ESCAPES = (("&", "&amp;"), ("<", "&lt;"), (">", "&gt;"))
+#: Attribute value escapes, as ElementTree writes them: the text escapes, ``"``,
+#: and CR, LF, tab as character references (so they survive attribute-value
+#: normalisation).
+_ATTR_ESCAPES = _TEXT_ESCAPES + (('"', "&quot;"), ("\r", "&#13;"), ("\n", "&#10;"),
+                                 ("\t", "&#09;"))
+
+
+def _escape(text: str, table) -> str:
+    for char, ref in table:            # "&" first: the references are not escaped again
+        if char in text:
+            text = text.replace(char, ref)
     return text
+
+
+def _cdata(text: str) -> str:
+    """Text content escaped as ElementTree escapes it."""
+    return _escape(text, _TEXT_ESCAPES)
 
 
 def _attr(text: str) -> str:
-    """An attribute value escaped as ElementTree escapes it (``& < > "`` and
-    CR, LF, tab as character references, so they survive attribute-value
-    normalisation)."""
-    text = _cdata(text)
-    if '"' in text:
-        text = text.replace('"', "&quot;")
-    if "\r" in text:
-        text = text.replace("\r", "&#13;")
-    if "\n" in text:
-        text = text.replace("\n", "&#10;")
-    if "\t" in text:
-        text = text.replace("\t", "&#09;")
-    return text
+    """An attribute value escaped as ElementTree escapes it."""
+    return _escape(text, _ATTR_ESCAPES)
 
 
 def _element(tag: str, attrs, text: str | None = None) -> str:

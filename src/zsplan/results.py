@@ -186,25 +186,29 @@ class Results:
                 "summary": self.summary()}
 
     def json_pieces(self, batch: int = 500):
-        """The results document as JSON text, in pieces of ``batch`` circuits.
+        """The results document (:meth:`to_dict`) as JSON text, in pieces.
 
-        Joined, the pieces are exactly ``json.dumps(self.to_dict(),
-        ensure_ascii=False, indent=2, allow_nan=False)``, but neither the
-        whole document nor all its records are held at once, so a plan of
-        any size is written in bounded memory.
+        The document's keys each start a line and every circuit and sub-main
+        record stands on a line of its own (readable, and a line per circuit
+        to search or compare); the pieces hold ``batch`` circuits each, so
+        neither the text nor all the records are held at once and a plan of
+        any size is written in bounded memory.  ``json.loads`` of the joined
+        pieces equals :meth:`to_dict`.
         """
-        def dumps(value, depth):
-            text = json.dumps(value, ensure_ascii=False, indent=2, allow_nan=False)
-            return text.replace("\n", "\n" + "  " * depth) if depth else text
+        def dumps(value):
+            return json.dumps(value, ensure_ascii=False, allow_nan=False)
 
-        head = dumps({"zsplan": 1, "plan": self.plan.path}, 0)
-        n = len(self.plan.circuits)
-        yield head[:-2] + ',\n  "circuits": ' + ("[" if n else "[]")
-        for start in range(0, n, batch):
+        def records(make, start, stop):
             with gc_paused():      # many small records, no reference cycles
-                records = [self.circuit_record(i) for i in range(start, min(n, start + batch))]
-            yield (",\n    " if start else "\n    ") + ",\n    ".join(
-                dumps(r, 2) for r in records)
-        subs = [self.submain_record(i) for i in range(len(self.submains.get("boards", ())))]
-        yield (("\n  ]" if n else "") + ',\n  "submains": ' + dumps(subs, 1)
-               + ',\n  "summary": ' + dumps(self.summary(), 1) + "\n}")
+                return ",\n    ".join(dumps(make(i)) for i in range(start, stop))
+
+        n = len(self.plan.circuits)
+        yield f'{{\n  "zsplan": 1,\n  "plan": {dumps(self.plan.path)},\n  "circuits": ['
+        for start in range(0, n, batch):
+            yield ",\n    " if start else "\n    "
+            yield records(self.circuit_record, start, min(n, start + batch))
+        k = len(self.submains.get("boards", ()))
+        yield ("\n  ]" if n else "]") + ',\n  "submains": ['
+        if k:
+            yield "\n    " + records(self.submain_record, 0, k) + "\n  "
+        yield f'],\n  "summary": {dumps(self.summary())}\n}}'

@@ -167,3 +167,31 @@ def test_problems_are_reported_in_file_order_and_the_same_either_way():
     paths = [p.path for p in streamed.value.problems]
     assert paths == ["defaults.ceiling", "circuits[3].device.rating", "circuits[9].device.rating"]
     assert [p.path for p in kept.value.problems] == paths
+
+
+def test_circuits_read_while_aliases_run_high_are_walked_later_in_file_order():
+    # 40 circuits alias a list of 1000 outlets (7000 values each: the count passes
+    # 200,000 values at over 10 per value written, so they are kept unwalked), then
+    # 3000 plain circuits bring the whole document back within bounds (about 3 per value
+    # written): it loads, in file order, with the problems in file order.
+    outlets = "".join(f"    - {{at: [{j % 50}, 0], height: 0.45 m}}\n" for j in range(1000))
+    head = ("zsplan: 1\nsupply: {u0: 230 V, earthing: TN-S, ze: 0.35 ohm}\n"
+            "x-outlets: &many\n" + outlets +
+            "defaults:\n  cable: {line: 2.5 mm2, cpc: 1.5 mm2}\n"
+            "boards:\n  - {ref: CU1, at: [0, 0], height: 1.5 m}\ncircuits:\n")
+    aliased = "".join(
+        f'- {{ref: "a{i}", board: CU1, device: {{type: mcb, curve: B, rating: '
+        f'{"16 Q" if i == 35 else "16 A"}}}, route: [[0, 0], [50, 0]], outlets: *many}}\n'
+        for i in range(40))
+    plain = "".join(_circuit(i).replace("rating: 16 A", "rating: 16 Q") if i == 2 else _circuit(i)
+                    for i in range(3000))
+    text = head + aliased + plain
+    with pytest.raises(PlanError) as err:
+        load_plan_text(text)
+    # circuit 35 is among those kept unwalked (the count passes 200,000 values after
+    # about 28 aliased circuits), circuit 42 is walked as it is read: file order still
+    assert [p.path for p in err.value.problems] == ["circuits[35].device.rating",
+                                                    "circuits[42].device.rating"]
+    plan = load_plan_text(text.replace("16 Q", "16 A"))
+    assert [c.ref for c in plan.circuits[38:42]] == ["a38", "a39", "0", "1"]
+    assert len(plan.circuits[0].outlets) == 1000 and len(plan.circuits[40].outlets) == 1

@@ -19,7 +19,6 @@ Exit status: 0 when no crash was found, 1 otherwise.
 from __future__ import annotations
 
 import argparse
-import os
 import re
 import sys
 import tempfile

@@ -202,16 +202,16 @@ def cmd_check(args, progress) -> int:
     _warn(results)
     if args.json:
         out = getattr(sys.stdout, "buffer", None)
+        sys.stdout.flush()
         if out is not None:            # JSON is UTF-8 whatever the locale
-            sys.stdout.flush()
-            for piece in results.json_pieces():
-                out.write(piece.encode("utf-8"))
-            out.write(b"\n")
-            out.flush()
+            def write(text):
+                out.write(text.encode("utf-8"))
         else:
-            for piece in results.json_pieces():
-                sys.stdout.write(piece)
-            _out_text("\n")
+            write, out = sys.stdout.write, sys.stdout
+        for piece in results.json_pieces():
+            write(piece)
+        write("\n")
+        out.flush()
     else:
         lines = check_lines(results, order=args.order, colour=colour_wanted(sys.stdout),
                             width=terminal_width(sys.stdout), glyphs=glyphs_for(sys.stdout))

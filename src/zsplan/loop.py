@@ -343,7 +343,7 @@ def _limits(curves: CurveSet, base, stride: int, t_required_s, u0_v, cmin, out=N
     scalar = type(u0_v) is not np.ndarray and type(cmin) is not np.ndarray
 
     def build():
-        ia = current_for_time(curves, np.repeat(np.arange(curves.size), nv), np.tile(values, curves.size))
+        ia = _ia_table(curves, values)
         zs = zs_limit(ia, u0_v, cmin) if scalar else np.zeros_like(ia)
         table = np.zeros((curves.size, stride), dtype=complex)
         table[:, :nv].real = ia.reshape(curves.size, nv)
@@ -362,10 +362,17 @@ def _limits(curves: CurveSet, base, stride: int, t_required_s, u0_v, cmin, out=N
     return found.real, zs_limit(found.real, u0_v, cmin), False
 
 
+def _ia_table(curves: CurveSet, values) -> np.ndarray:
+    """Ia(t) of every curve at every required time in ``values``: curve k's
+    entries are ``k * len(values)`` onwards."""
+    nv = len(values)
+    return current_for_time(curves, np.repeat(np.arange(curves.size), nv), np.tile(values, curves.size))
+
+
 def _limits_unique(curves: CurveSet, idx, values, code, u0_v, cmin):
     """:func:`_limits` for many distinct required times: a table per call."""
     nv = len(values)
-    ia_table = current_for_time(curves, np.repeat(np.arange(curves.size), nv), np.tile(values, curves.size))
+    ia_table = _ia_table(curves, values)
     slot = idx * nv + code
     ia = ia_table.take(slot)
     zs_max = zs_limit(ia, u0_v, cmin)
